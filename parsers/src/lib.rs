@@ -1,0 +1,24 @@
+//! Readers that turn quantum-chemistry output files into plain data.
+//!
+//! This crate knows no physics: it reports numbers and units exactly as written and leaves
+//! every conversion and interpretation to its callers. Errors name the file and the line.
+//!
+//! ```no_run
+//! use std::path::Path;
+//! use sixray_parsers::{LengthUnit, ReadParams, read_cube};
+//!
+//! let cube = read_cube(Path::new("orbital.cube.gz"), &ReadParams::default())?;
+//! let [n0, n1, n2] = cube.header.shape();
+//! assert_eq!(cube.fields[0].len(), n0 * n1 * n2);
+//! if cube.header.unit == LengthUnit::Angstrom { /* the caller converts, if it wants to */ }
+//! # Ok::<(), sixray_parsers::CubeError>(())
+//! ```
+
+#![warn(missing_docs)]
+
+pub mod cube;
+
+pub use cube::{
+    CubeAtom, CubeAxis, CubeError, CubeErrorKind, CubeFile, CubeHeader, LengthUnit, ReadParams,
+    parse_cube, parse_cube_header, read_cube, read_cube_header,
+};
