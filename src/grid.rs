@@ -56,9 +56,9 @@ impl GridGeometry {
             return Err(GridError::EmptyAxis { axis });
         }
         let volume = det(&axes);
-        let scale = axes.iter().map(|a| norm(a)).product::<f64>();
+        let scale = axes.iter().map(norm).product::<f64>();
         // A cell flatter than ~1e-12 of its edge product is numerically degenerate.
-        if !volume.is_finite() || !(volume.abs() > 1e-12 * scale) {
+        if !volume.is_finite() || volume.abs() <= 1e-12 * scale {
             return Err(GridError::Degenerate { volume });
         }
         Ok(GridGeometry { origin, axes, shape })
@@ -174,10 +174,10 @@ mod tests {
     fn dual_axes_are_dual() {
         let g = sheared();
         let b = g.dual_axes();
-        for i in 0..3 {
-            for j in 0..3 {
+        for (i, a) in g.axes.iter().enumerate() {
+            for (j, b) in b.iter().enumerate() {
                 let want = if i == j { 1.0 } else { 0.0 };
-                assert!((dot(&g.axes[i], &b[j]) - want).abs() < 1e-12);
+                assert!((dot(a, b) - want).abs() < 1e-12);
             }
         }
         assert!((g.voxel_volume() - 0.2 * 0.2 * 0.25).abs() < 1e-15);

@@ -1,0 +1,389 @@
+//! Per-orbital self-interaction diagnostics.
+//!
+//! For an occupied spin-orbital with density `n_i = f_i |φ_i|²` (atomic units throughout):
+//!
+//! ```text
+//! J_i      = ½ ∬ n_i(r) n_i(r') / |r − r'|          Hartree self-repulsion
+//! E_xc,i   = E_x[n_i, 0] + E_c[n_i, 0]              per model, fully spin-polarised
+//! δ_i      = J_i + E_xc,i                          one-electron self-interaction error
+//! c_i      = −E_x,i / J_i                           cancellation ratio (1 for exact exchange)
+//! α*_i     = (2/3) J_i / (−E_x,i^LSDA)              the Xα value that would cancel J_i exactly
+//! PZ       = −Σ_i g_i δ_i                           Perdew–Zunger correction of the calculation
+//! ```
+//!
+//! where `g_i` is the number of spin-orbitals a record stands for (2 for a restricted spatial
+//! orbital). The exact functional has δ_i = 0 for every one-electron density.
+
+use crate::grid::{GridGeometry, Nucleus};
+use crate::par::Parallelism;
+use crate::poisson::{HartreeParams, HartreeSolver};
+use crate::xc::slater::XAlpha;
+use crate::xc::{Functional, Model, XcPoint};
+use std::collections::HashMap;
+use std::sync::{Arc, Mutex, OnceLock};
+use thiserror::Error;
+
+/// Which spin-orbitals a grid of orbital values stands for.
+#[derive(Clone, Copy, Debug, PartialEq, Eq, Hash)]
+pub enum Spin {
+    /// A spatial orbital of a closed-shell calculation: two spin-orbitals, one per spin.
+    Restricted,
+    /// A spin-up orbital of an unrestricted calculation.
+    Alpha,
+    /// A spin-down orbital of an unrestricted calculation.
+    Beta,
+}
+
+impl Spin {
+    /// Spin-orbitals the record stands for (its weight in sums over occupied spin-orbitals).
+    pub fn spin_orbitals(self) -> u32 {
+        match self {
+            Spin::Restricted => 2,
+            Spin::Alpha | Spin::Beta => 1,
+        }
+    }
+
+    /// Lower-case name used in reports.
+    pub fn as_str(self) -> &'static str {
+        match self {
+            Spin::Restricted => "restricted",
+            Spin::Alpha => "alpha",
+            Spin::Beta => "beta",
+        }
+    }
+}
+
+/// One spin-orbital's density on a grid, ready for analysis.
+#[derive(Clone, Debug)]
+pub struct OrbitalDensity {
+    /// The file it came from, as given.
+    pub source: String,
+    /// A label unique within the calculation (file stem, plus the orbital index for files that
+    /// hold several orbitals).
+    pub label: String,
+    /// Spin of the orbital.
+    pub spin: Spin,
+    /// Electrons in the spin-orbital, f_i (1 for a fully occupied one).
+    pub occupation: f64,
+    /// Where the values are.
+    pub geometry: Arc<GridGeometry>,
+    /// Nuclei listed in the file, bohr.
+    pub nuclei: Arc<[Nucleus]>,
+    /// n_i = f_i |φ_i|² at every grid point, electrons/bohr³.
+    pub density: Vec<f64>,
+}
+
+/// One model's self-energies of one orbital, hartree.
+#[derive(Clone, Copy, Debug, PartialEq)]
+pub struct ModelEnergies {
+    /// E_x[n_i, 0], hartree.
+    pub exchange: f64,
+    /// E_c[n_i, 0] (0 for exchange-only models), hartree.
+    pub correlation: f64,
+    /// δ_i = J_i + E_x + E_c, hartree.
+    pub self_interaction: f64,
+    /// −E_x / J_i (dimensionless).
+    pub cancellation: f64,
+}
+
+/// Everything computed for one spin-orbital.
+#[derive(Clone, Debug, PartialEq)]
+pub struct OrbitalReport {
+    /// The file it came from.
+    pub source: String,
+    /// Label, unique within the calculation.
+    pub label: String,
+    /// Spin of the record.
+    pub spin: Spin,
+    /// Electrons in the spin-orbital.
+    pub occupation: f64,
+    /// ∫ n_i, electrons (should equal the occupation; less means the box cuts the orbital off).
+    pub norm: f64,
+    /// J_i, hartree.
+    pub hartree: f64,
+    /// LSDA exchange self-energy, hartree (the basis of `optimal_alpha`).
+    pub lsda_exchange: f64,
+    /// α*_i (dimensionless).
+    pub optimal_alpha: f64,
+    /// Per model, in the engine's model order.
+    pub models: Vec<ModelEnergies>,
+}
+
+/// A result that cannot be trusted.
+#[derive(Debug, Error, Clone, PartialEq)]
+pub enum DiagnosticsError {
+    /// An energy came out infinite or NaN (values so large that squaring overflows, say).
+    #[error("{quantity} is not a finite number; are the grid values sensible?")]
+    NonFinite {
+        /// Which quantity.
+        quantity: String,
+    },
+    /// The density is zero everywhere, so no ratio to J exists.
+    #[error("the orbital density is zero everywhere (norm {norm:e})")]
+    Empty {
+        /// ∫ n_i, electrons.
+        norm: f64,
+    },
+    /// The orbital's values do not match its grid.
+    #[error(transparent)]
+    Poisson(#[from] crate::poisson::PoissonError),
+}
+
+/// Settings of the engine.
+#[derive(Clone, Debug, PartialEq)]
+pub struct EngineParams {
+    /// Settings of the Coulomb solver.
+    pub hartree: HartreeParams,
+    /// Most Coulomb solvers (one per distinct grid) kept at once; each holds a kernel spectrum
+    /// of about 4 bytes per padded grid point.
+    pub solver_cache: usize,
+}
+
+impl Default for EngineParams {
+    fn default() -> Self {
+        EngineParams { hartree: HartreeParams::default(), solver_cache: 4 }
+    }
+}
+
+/// Computes orbital reports for a fixed list of models, reusing Coulomb kernels between orbitals
+/// on the same grid. Safe to share between threads.
+pub struct Engine {
+    models: Vec<Model>,
+    params: EngineParams,
+    solvers: Mutex<Vec<(GridGeometry, SolverCell)>>,
+}
+
+/// A solver built at most once, by whichever thread asks first.
+type SolverCell = Arc<OnceLock<Arc<HartreeSolver>>>;
+
+impl Engine {
+    /// An engine evaluating `models` in this order.
+    pub fn new(models: Vec<Model>, params: EngineParams) -> Self {
+        Engine { models, params, solvers: Mutex::new(Vec::new()) }
+    }
+
+    /// The models, in report order.
+    pub fn models(&self) -> &[Model] {
+        &self.models
+    }
+
+    /// The engine's settings.
+    pub fn params(&self) -> &EngineParams {
+        &self.params
+    }
+
+    /// The Coulomb solver for `geometry`, built on first use (once, even if several threads ask).
+    pub fn solver(&self, geometry: &GridGeometry, par: Parallelism) -> Arc<HartreeSolver> {
+        let cell = {
+            let mut cache = self.solvers.lock().unwrap_or_else(|e| e.into_inner());
+            match cache.iter().find(|(g, _)| g.same_lattice(geometry)) {
+                Some((_, cell)) => cell.clone(),
+                None => {
+                    let cell = Arc::new(OnceLock::new());
+                    cache.push((geometry.clone(), cell.clone()));
+                    if cache.len() > self.params.solver_cache.max(1) {
+                        cache.remove(0);
+                    }
+                    cell
+                }
+            }
+        };
+        cell.get_or_init(|| Arc::new(HartreeSolver::new(geometry, &self.params.hartree, par))).clone()
+    }
+
+    /// Analyses one spin-orbital.
+    pub fn analyse(&self, orbital: &OrbitalDensity, par: Parallelism) -> Result<OrbitalReport, DiagnosticsError> {
+        let w = orbital.geometry.voxel_volume();
+        let rho = &orbital.density;
+        let norm = w * par.chunked_sum(rho.len(), |r| rho[r].iter().sum());
+        let hartree = self.solver(&orbital.geometry, par).self_energy(rho, par)?;
+
+        // Each distinct functional is integrated once, however many models share it.
+        let mut cache: HashMap<String, f64> = HashMap::new();
+        let mut energy = |f: &dyn Functional| -> f64 {
+            *cache.entry(f.id()).or_insert_with(|| w * grid_sum(f, rho, par))
+        };
+        let lsda_exchange = energy(&XAlpha::lsda());
+        let models = self
+            .models
+            .iter()
+            .map(|m| {
+                let exchange = energy(m.exchange.as_ref());
+                let correlation = m.correlation.as_deref().map_or(0.0, &mut energy);
+                ModelEnergies {
+                    exchange,
+                    correlation,
+                    self_interaction: hartree + exchange + correlation,
+                    cancellation: -exchange / hartree,
+                }
+            })
+            .collect::<Vec<_>>();
+        let report = OrbitalReport {
+            source: orbital.source.clone(),
+            label: orbital.label.clone(),
+            spin: orbital.spin,
+            occupation: orbital.occupation,
+            norm,
+            hartree,
+            lsda_exchange,
+            optimal_alpha: (2.0 / 3.0) * hartree / -lsda_exchange,
+            models,
+        };
+        check_finite(&report, &self.models)?;
+        Ok(report)
+    }
+}
+
+/// Σ_points e(n_i, 0) for a functional of the density alone (no gradients yet), hartree/bohr³.
+fn grid_sum(f: &dyn Functional, rho: &[f64], par: Parallelism) -> f64 {
+    par.chunked_sum(rho.len(), |r| rho[r].iter().map(|&n| f.energy_density(&XcPoint::polarized(n, 0.0, 0.0))).sum())
+}
+
+fn check_finite(r: &OrbitalReport, models: &[Model]) -> Result<(), DiagnosticsError> {
+    let bad = |q: &str| Err(DiagnosticsError::NonFinite { quantity: q.to_string() });
+    for (q, v) in [("norm", r.norm), ("Hartree self-repulsion", r.hartree), ("LSDA exchange", r.lsda_exchange)] {
+        if !v.is_finite() {
+            return bad(q);
+        }
+    }
+    if !(r.hartree > 0.0 && r.lsda_exchange < 0.0) {
+        return Err(DiagnosticsError::Empty { norm: r.norm });
+    }
+    for (m, e) in models.iter().zip(&r.models) {
+        if !(e.exchange.is_finite() && e.correlation.is_finite()) {
+            return bad(&format!("the {} exchange-correlation energy", m.name));
+        }
+    }
+    Ok(())
+}
+
+/// Totals of one model over a calculation.
+#[derive(Clone, Copy, Debug, PartialEq)]
+pub struct ModelTotals {
+    /// Perdew–Zunger correction −Σ g_i δ_i, hartree.
+    pub perdew_zunger: f64,
+    /// Mean cancellation ratio over occupied spin-orbitals, Σ g_i c_i / Σ g_i (dimensionless).
+    pub mean_cancellation: f64,
+}
+
+/// The reports of one calculation, ranked, with per-model totals.
+#[derive(Clone, Debug, PartialEq)]
+pub struct Ranking {
+    /// Index of the model that orders the orbitals.
+    pub rank_by: usize,
+    /// Orbital reports, worst first: decreasing |δ_i| under the ranking model.
+    pub orbitals: Vec<OrbitalReport>,
+    /// Per model, in the engine's model order.
+    pub totals: Vec<ModelTotals>,
+    /// Occupied spin-orbitals counted (Σ g_i).
+    pub spin_orbitals: u32,
+}
+
+impl Ranking {
+    /// Ranks `orbitals` by |δ_i| of model `rank_by` (ties keep their input order).
+    pub fn new(mut orbitals: Vec<OrbitalReport>, rank_by: usize) -> Self {
+        let key = |o: &OrbitalReport| o.models.get(rank_by).map_or(0.0, |m| m.self_interaction.abs());
+        orbitals.sort_by(|a, b| key(b).total_cmp(&key(a)));
+        let model_count = orbitals.first().map_or(0, |o| o.models.len());
+        let spin_orbitals: u32 = orbitals.iter().map(|o| o.spin.spin_orbitals()).sum();
+        let weighted = |m: usize, q: fn(&ModelEnergies) -> f64| -> f64 {
+            orbitals.iter().map(|o| o.spin.spin_orbitals() as f64 * q(&o.models[m])).sum()
+        };
+        let totals = (0..model_count)
+            .map(|m| ModelTotals {
+                perdew_zunger: -weighted(m, |e| e.self_interaction),
+                mean_cancellation: weighted(m, |e| e.cancellation) / spin_orbitals as f64,
+            })
+            .collect();
+        Ranking { rank_by, orbitals, totals, spin_orbitals }
+    }
+}
+
+#[cfg(test)]
+mod tests {
+    use super::*;
+    use std::f64::consts::PI;
+
+    fn gaussian_orbital(spin: Spin, exponent: f64, occupation: f64) -> OrbitalDensity {
+        let h = 0.25;
+        let geometry = GridGeometry::around([[h, 0.0, 0.0], [0.0, h, 0.0], [0.0, 0.0, h]], [0.0; 3], 6.0).unwrap();
+        let norm = occupation * (exponent / PI).powf(1.5);
+        let density = geometry.sample(|r| norm * (-exponent * (r[0] * r[0] + r[1] * r[1] + r[2] * r[2])).exp());
+        OrbitalDensity {
+            source: "test".into(),
+            label: format!("g{exponent}"),
+            spin,
+            occupation,
+            geometry: Arc::new(geometry),
+            nuclei: Arc::from(Vec::new()),
+            density,
+        }
+    }
+
+    fn engine(names: &[&str]) -> Engine {
+        Engine::new(names.iter().map(|n| Model::from_name(n).unwrap()).collect(), EngineParams::default())
+    }
+
+    #[test]
+    fn definitions_hold_for_a_gaussian() {
+        let e = engine(&["lsda", "lsda-x", "slater", "xalpha=0.5"]);
+        let r = e.analyse(&gaussian_orbital(Spin::Alpha, 1.0, 1.0), Parallelism::Rayon).unwrap();
+        // J = √(a/2π) for a normalised Gaussian (textbook); LSDA exchange of the fully polarised
+        // Gaussian density: −(3/2)(3/4π)^{1/3} ∫ n^{4/3} = −(3/2)(3/4π)^{1/3} (a/π)^{1/2} (3/4)^{3/2}
+        // (a Gaussian integral worked by hand).
+        let j = (1.0 / (2.0 * PI)).sqrt();
+        let ex = -1.5 * (3.0 / (4.0 * PI)).cbrt() * (1.0 / PI).sqrt() * 0.75f64.powf(1.5);
+        assert!((r.norm - 1.0).abs() < 1e-10);
+        assert!((r.hartree - j).abs() < 1e-10);
+        assert!((r.lsda_exchange - ex).abs() < 1e-9);
+        let [lsda, lsda_x, slater, half] = [0, 1, 2, 3].map(|i| r.models[i]);
+        assert_eq!(lsda.exchange, lsda_x.exchange);
+        assert_eq!(lsda_x.correlation, 0.0);
+        assert!(lsda.correlation < 0.0);
+        assert!((slater.exchange - 1.5 * lsda_x.exchange).abs() < 1e-14);
+        assert!((half.exchange - 0.75 * lsda_x.exchange).abs() < 1e-14);
+        assert!((lsda.self_interaction - (r.hartree + lsda.exchange + lsda.correlation)).abs() < 1e-15);
+        assert!((lsda_x.cancellation + lsda_x.exchange / r.hartree).abs() < 1e-15);
+        // Xα with α* cancels J exactly.
+        assert!((r.optimal_alpha * 1.5 * r.lsda_exchange + r.hartree).abs() < 1e-13);
+    }
+
+    #[test]
+    fn occupation_scales_the_density() {
+        let e = engine(&["lsda-x"]);
+        let full = e.analyse(&gaussian_orbital(Spin::Alpha, 1.0, 1.0), Parallelism::Sequential).unwrap();
+        let half = e.analyse(&gaussian_orbital(Spin::Alpha, 1.0, 0.5), Parallelism::Sequential).unwrap();
+        assert!((half.norm - 0.5).abs() < 1e-10);
+        assert!((half.hartree - 0.25 * full.hartree).abs() < 1e-12);
+        assert!((half.models[0].exchange - 0.5f64.powf(4.0 / 3.0) * full.models[0].exchange).abs() < 1e-12);
+    }
+
+    #[test]
+    fn ranking_orders_by_magnitude_and_counts_restricted_twice() {
+        let e = engine(&["lsda-x", "lsda"]);
+        let a = e.analyse(&gaussian_orbital(Spin::Restricted, 1.0, 1.0), Parallelism::Sequential).unwrap();
+        let b = e.analyse(&gaussian_orbital(Spin::Beta, 3.0, 1.0), Parallelism::Sequential).unwrap();
+        let ranking = Ranking::new(vec![a.clone(), b.clone()], 0);
+        let d = |o: &OrbitalReport| o.models[0].self_interaction.abs();
+        assert!(d(&ranking.orbitals[0]) >= d(&ranking.orbitals[1]));
+        assert_eq!(ranking.spin_orbitals, 3);
+        for m in 0..2 {
+            let want = -(2.0 * a.models[m].self_interaction + b.models[m].self_interaction);
+            assert!((ranking.totals[m].perdew_zunger - want).abs() < 1e-15);
+            let mean = (2.0 * a.models[m].cancellation + b.models[m].cancellation) / 3.0;
+            assert!((ranking.totals[m].mean_cancellation - mean).abs() < 1e-15);
+        }
+        // The solver was built once for both orbitals' grid.
+        assert_eq!(e.solvers.lock().unwrap().len(), 1);
+    }
+
+    #[test]
+    fn overflowing_values_are_reported_not_returned() {
+        let e = engine(&["lsda"]);
+        let mut o = gaussian_orbital(Spin::Alpha, 1.0, 1.0);
+        o.density[100] = f64::INFINITY;
+        assert!(matches!(e.analyse(&o, Parallelism::Sequential), Err(DiagnosticsError::NonFinite { .. })));
+        o.density.fill(0.0);
+        assert!(matches!(e.analyse(&o, Parallelism::Sequential), Err(DiagnosticsError::Empty { .. })));
+    }
+}
