@@ -1,1 +1,126 @@
-fn main(){}
+//! Throughput benchmark: `cargo bench --bench throughput` (release build, prints a table).
+//!
+//! 1. Parsing: a synthetic 128³ single-orbital cube file written the way common writers do
+//!    (`%13.5E`, six values per line), read plain and gzip-compressed; MB/s of cube text.
+//! 2. Engine: J plus three models (lsda, slater, xalpha=0.75) for one 128³ orbital, after the
+//!    Coulomb kernel of the grid has been built once (its cost is reported separately), on one
+//!    thread and on all threads.
+//! 3. Peak resident memory of the process (VmHWM).
+//!
+//! Each timing is the best of several runs. The data are invented for the benchmark only.
+
+use sixray::diagnostics::{Engine, EngineParams, OrbitalDensity, Spin};
+use sixray::grid::GridGeometry;
+use sixray::par::Parallelism;
+use sixray::xc::Model;
+use sixray_parsers::cube::{ReadParams, read_cube};
+use std::fmt::Write as _;
+use std::io::Write;
+use std::sync::Arc;
+use std::time::{Duration, Instant};
+
+const N: usize = 128;
+const H: f64 = 0.15;
+
+/// A smooth, orbital-like test function: two Gaussians of opposite sign.
+fn value(r: [f64; 3]) -> f64 {
+    let g = |c: [f64; 3], a: f64| (-a * ((r[0] - c[0]).powi(2) + (r[1] - c[1]).powi(2) + (r[2] - c[2]).powi(2))).exp();
+    0.6 * g([0.0, 0.0, 0.4], 0.8) - 0.4 * g([0.0, 0.5, -0.6], 1.5)
+}
+
+fn geometry() -> GridGeometry {
+    let o = -(N as f64 - 1.0) * H / 2.0;
+    GridGeometry::new([o; 3], [[H, 0.0, 0.0], [0.0, H, 0.0], [0.0, 0.0, H]], [N; 3]).expect("valid grid")
+}
+
+fn cube_text(g: &GridGeometry) -> String {
+    let mut s = String::with_capacity(N * N * N * 14);
+    s += "benchmark orbital\nsynthetic values\n";
+    let _ = writeln!(s, "{:5}{:12.6}{:12.6}{:12.6}", 1, g.origin[0], g.origin[1], g.origin[2]);
+    for a in 0..3 {
+        let v = g.axes[a];
+        let _ = writeln!(s, "{:5}{:12.6}{:12.6}{:12.6}", N, v[0], v[1], v[2]);
+    }
+    let _ = writeln!(s, "{:5}{:12.6}{:12.6}{:12.6}{:12.6}", 8, 0.0, 0.0, 0.0, 0.0);
+    for i in 0..N {
+        for j in 0..N {
+            for k in 0..N {
+                let _ = write!(s, "{:13.5E}", value(g.point([i, j, k])));
+                if k % 6 == 5 {
+                    s.push('\n');
+                }
+            }
+            s.push('\n');
+        }
+    }
+    s
+}
+
+fn best<T>(runs: usize, mut f: impl FnMut() -> T) -> (Duration, T) {
+    let mut out = None;
+    let mut best = Duration::MAX;
+    for _ in 0..runs {
+        let t = Instant::now();
+        let v = f();
+        best = best.min(t.elapsed());
+        out = Some(v);
+    }
+    (best, out.expect("at least one run"))
+}
+
+fn peak_rss_mib() -> Option<f64> {
+    let status = std::fs::read_to_string("/proc/self/status").ok()?;
+    let line = status.lines().find(|l| l.starts_with("VmHWM:"))?;
+    let kib: f64 = line.split_whitespace().nth(1)?.parse().ok()?;
+    Some(kib / 1024.0)
+}
+
+fn main() {
+    let g = geometry();
+    let dir = tempfile::tempdir().expect("temporary directory");
+    let text = cube_text(&g);
+    let plain = dir.path().join("bench.cube");
+    std::fs::write(&plain, &text).expect("write plain cube");
+    let gz = dir.path().join("bench.cube.gz");
+    let mut enc = flate2::write::GzEncoder::new(std::fs::File::create(&gz).expect("create"), flate2::Compression::new(6));
+    enc.write_all(text.as_bytes()).expect("compress");
+    enc.finish().expect("finish gzip");
+    let mb = text.len() as f64 / 1e6;
+    drop(text);
+
+    let threads = rayon::current_num_threads();
+    println!("sixray throughput benchmark: {N}³ grid, {H} bohr spacing, {threads} threads available\n");
+    println!("{:<52} {:>12}", "measurement", "result");
+
+    let (t, file) = best(5, || read_cube(&plain, &ReadParams::default()).expect("read plain"));
+    println!("{:<52} {:>9.0} MB/s  ({mb:.1} MB in {:.3} s)", "parse plain cube text", mb / t.as_secs_f64(), t.as_secs_f64());
+    let (t, _) = best(3, || read_cube(&gz, &ReadParams::default()).expect("read gz"));
+    println!("{:<52} {:>9.0} MB/s  ({:.3} s)", "parse gzip cube (MB of text per second)", mb / t.as_secs_f64(), t.as_secs_f64());
+
+    let density: Vec<f64> = file.fields[0].iter().map(|v| v * v).collect();
+    let orbital = OrbitalDensity {
+        source: "bench".into(),
+        label: "bench".into(),
+        spin: Spin::Alpha,
+        occupation: 1.0,
+        geometry: Arc::new(g.clone()),
+        nuclei: Arc::from(Vec::new()),
+        density,
+    };
+    let models = ["lsda", "slater", "xalpha=0.75"].map(|m| Model::from_name(m).expect("model")).to_vec();
+    for (label, par) in [("1 thread", Parallelism::Sequential), ("all threads", Parallelism::Rayon)] {
+        let engine = Engine::new(models.clone(), EngineParams::default());
+        let (setup, solver) = best(1, || engine.solver(&g, par));
+        let padded = solver.padded_shape();
+        let (t, report) = best(5, || engine.analyse(&orbital, par).expect("analyse"));
+        println!(
+            "{:<52} {:>9.3} s",
+            format!("Coulomb kernel setup, padded {}×{}×{} ({label})", padded[0], padded[1], padded[2]),
+            setup.as_secs_f64()
+        );
+        println!("{:<52} {:>9.3} s  (J = {:.6} Eh)", format!("J + 3 models per orbital ({label})"), t.as_secs_f64(), report.hartree);
+    }
+    if let Some(m) = peak_rss_mib() {
+        println!("{:<52} {:>9.0} MiB", "peak resident memory (whole benchmark)", m);
+    }
+}

@@ -1,4 +1,13 @@
 //! sixray: one-electron self-interaction diagnostics of density-functional calculations.
+//!
+//! Units are atomic throughout the library: hartree, bohr, electrons. Reports convert for people.
+//!
+//! - [`input`] turns grid files (read by the `sixray-parsers` crate) into orbital densities;
+//! - [`poisson`] computes free-space Coulomb energies on grids;
+//! - [`xc`] holds the exchange–correlation functionals and the named models;
+//! - [`diagnostics`] computes per-orbital self-energies and ranks them;
+//! - [`calculation`] runs the files of one calculation with failure isolation;
+//! - [`report`] renders results as a table, Markdown, CSV or JSON.
 
 pub mod calculation;
 pub mod diagnostics;
@@ -7,4 +16,5 @@ pub mod input;
 pub mod par;
 pub mod poisson;
 pub mod quadrature;
+pub mod report;
 pub mod xc;

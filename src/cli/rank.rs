@@ -1,0 +1,136 @@
+//! `sixray rank`: one calculation's grid files in, a ranked report out.
+
+use super::Status;
+use anyhow::{Context, bail};
+use clap::{Args, ValueEnum};
+use sixray::calculation::analyse_files;
+use sixray::diagnostics::{Engine, EngineParams, Spin};
+use sixray::input::{Kind, LoadParams, SpinRule};
+use sixray::report::{self, EnergyUnit, Report};
+use sixray::xc::Model;
+use std::path::PathBuf;
+
+#[derive(Debug, Args)]
+pub struct RankArgs {
+    /// Grid files (cube format, optionally gzip-compressed) of one calculation.
+    #[arg(required = true, value_name = "FILE")]
+    files: Vec<PathBuf>,
+
+    /// Exchange-correlation model (repeatable): lsda, lsda-x, slater, xalpha=VALUE.
+    #[arg(short, long = "model", value_name = "NAME", default_value = "lsda")]
+    models: Vec<String>,
+
+    /// Model whose |δ| orders the ranking (default: the first --model).
+    #[arg(long, value_name = "MODEL")]
+    rank_by: Option<String>,
+
+    /// What the grid values are.
+    #[arg(long, value_enum, default_value_t = KindArg::Amplitude)]
+    kind: KindArg,
+
+    /// Spin of the orbitals; from-name looks for alpha/beta in the file name.
+    #[arg(long, value_enum, default_value_t = SpinArg::FromName)]
+    spin: SpinArg,
+
+    /// Electrons in each spin-orbital, where the files cannot say (0 < F ≤ 1).
+    #[arg(long, value_name = "F", default_value_t = 1.0)]
+    occupation: f64,
+
+    /// Output format.
+    #[arg(short, long, value_enum, default_value_t = Format::Table)]
+    format: Format,
+
+    /// Energy unit of the table and Markdown (JSON and CSV are always in hartree):
+    /// hartree, millihartree, ev, kcal/mol, kj/mol.
+    #[arg(long, value_name = "UNIT", default_value = "millihartree")]
+    units: EnergyUnit,
+
+    /// Show only the N worst orbitals (totals still cover all).
+    #[arg(long, value_name = "N")]
+    top: Option<usize>,
+
+    /// Write the report to FILE (atomically) instead of standard output.
+    #[arg(short, long, value_name = "FILE")]
+    output: Option<PathBuf>,
+}
+
+#[derive(Clone, Copy, Debug, ValueEnum)]
+enum KindArg {
+    Amplitude,
+    Density,
+}
+
+#[derive(Clone, Copy, Debug, ValueEnum)]
+enum SpinArg {
+    FromName,
+    Restricted,
+    Alpha,
+    Beta,
+}
+
+#[derive(Clone, Copy, Debug, ValueEnum)]
+enum Format {
+    Table,
+    Json,
+    Csv,
+    Markdown,
+}
+
+pub fn run(args: RankArgs) -> anyhow::Result<Status> {
+    let mut models = Vec::new();
+    for name in &args.models {
+        let m = Model::from_name(name).with_context(|| format!("--model {name}"))?;
+        if models.iter().any(|k: &Model| k.name == m.name) {
+            bail!("--model {name} is given twice");
+        }
+        models.push(m);
+    }
+    let rank_by = match &args.rank_by {
+        None => 0,
+        Some(name) => {
+            let m = Model::from_name(name).with_context(|| format!("--rank-by {name}"))?;
+            match models.iter().position(|k| k.name == m.name) {
+                Some(i) => i,
+                None => {
+                    models.push(m);
+                    models.len() - 1
+                }
+            }
+        }
+    };
+    if !(args.occupation > 0.0 && args.occupation <= 1.0) {
+        bail!("--occupation must be in (0, 1], got {}", args.occupation);
+    }
+    let load = LoadParams {
+        kind: match args.kind {
+            KindArg::Amplitude => Kind::Amplitude,
+            KindArg::Density => Kind::Density,
+        },
+        spin: match args.spin {
+            SpinArg::FromName => SpinRule::FromName,
+            SpinArg::Restricted => SpinRule::Fixed(Spin::Restricted),
+            SpinArg::Alpha => SpinRule::Fixed(Spin::Alpha),
+            SpinArg::Beta => SpinRule::Fixed(Spin::Beta),
+        },
+        occupation: args.occupation,
+        ..LoadParams::default()
+    };
+
+    let engine = Engine::new(models, EngineParams::default());
+    let outcome = analyse_files(&args.files, &load, &engine, rank_by);
+    for f in &outcome.failures {
+        eprintln!("sixray: error: {}", f.error);
+    }
+    let report = Report { models: engine.models(), outcome: &outcome, top: args.top };
+    let text = match args.format {
+        Format::Table => report::text::render_table(&report, args.units),
+        Format::Markdown => report::text::render_markdown(&report, args.units),
+        Format::Json => report::json::render(&report),
+        Format::Csv => report::csv::render(&report),
+    };
+    match &args.output {
+        Some(path) => report::write_atomic(path, text.as_bytes()).with_context(|| format!("writing {}", path.display()))?,
+        None => print!("{text}"),
+    }
+    Ok(if outcome.failures.is_empty() { Status::Success } else { Status::BadInput })
+}

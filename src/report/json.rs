@@ -1,0 +1,78 @@
+//! The JSON report (hartree throughout; layout documented in the README).
+//!
+//! ```text
+//! { "tool": {"name", "version"}, "units": "hartree", "rank_by": MODEL,
+//!   "models": [{"name", "exchange", "correlation", "summary"}],
+//!   "orbitals": [ {"rank", "source", "label", "spin", "occupation", "norm", "hartree",
+//!                  "optimal_alpha", "models": {MODEL: {"exchange", "correlation",
+//!                  "self_interaction", "cancellation"}}} ],          // worst first
+//!   "totals": {MODEL: {"perdew_zunger", "mean_cancellation"}}, "spin_orbitals": N,
+//!   "failures": [{"source", "error"}] }
+//! ```
+
+use super::Report;
+use serde_json::{Map, Value, json};
+
+/// The report as a JSON value.
+pub fn to_value(report: &Report) -> Value {
+    let models = report.models;
+    let ranking = &report.outcome.ranking;
+    let orbitals = report
+        .shown()
+        .iter()
+        .enumerate()
+        .map(|(i, o)| {
+            let per_model = models
+                .iter()
+                .zip(&o.models)
+                .map(|(m, e)| {
+                    let v = json!({
+                        "exchange": e.exchange,
+                        "correlation": e.correlation,
+                        "self_interaction": e.self_interaction,
+                        "cancellation": e.cancellation,
+                    });
+                    (m.name.clone(), v)
+                })
+                .collect::<Map<_, _>>();
+            json!({
+                "rank": i + 1,
+                "source": o.source,
+                "label": o.label,
+                "spin": o.spin.as_str(),
+                "occupation": o.occupation,
+                "norm": o.norm,
+                "hartree": o.hartree,
+                "optimal_alpha": o.optimal_alpha,
+                "models": per_model,
+            })
+        })
+        .collect::<Vec<_>>();
+    let totals = models
+        .iter()
+        .zip(&ranking.totals)
+        .map(|(m, t)| (m.name.clone(), json!({ "perdew_zunger": t.perdew_zunger, "mean_cancellation": t.mean_cancellation })))
+        .collect::<Map<_, _>>();
+    json!({
+        "tool": { "name": "sixray", "version": env!("CARGO_PKG_VERSION") },
+        "units": "hartree",
+        "rank_by": models.get(ranking.rank_by).map(|m| m.name.as_str()),
+        "models": models.iter().map(|m| json!({
+            "name": m.name,
+            "exchange": m.exchange.id(),
+            "correlation": m.correlation.as_ref().map(|c| c.id()),
+            "summary": m.summary,
+        })).collect::<Vec<_>>(),
+        "orbitals": orbitals,
+        "totals": totals,
+        "spin_orbitals": ranking.spin_orbitals,
+        "failures": report.outcome.failures.iter().map(|f| json!({"source": f.source, "error": f.error})).collect::<Vec<_>>(),
+    })
+}
+
+/// The report as pretty-printed JSON text with a final newline.
+pub fn render(report: &Report) -> String {
+    let mut s = serde_json::to_string_pretty(&to_value(report)).expect("JSON values always serialise");
+    s.push('\n');
+    s
+}

@@ -1,0 +1,162 @@
+//! Reports of a ranked calculation: a terminal table, Markdown, CSV and JSON.
+//!
+//! JSON and CSV are for programs and always carry hartree; the table and Markdown are for people
+//! and use the chosen [`EnergyUnit`]. The JSON layout is documented in the README and kept
+//! stable; see [`json`].
+
+pub mod csv;
+pub mod json;
+pub mod text;
+
+use crate::calculation::Outcome;
+use crate::xc::Model;
+use std::io::Write;
+use std::path::Path;
+use std::str::FromStr;
+
+/// Energy units for human-readable reports.
+#[derive(Clone, Copy, Debug, PartialEq, Eq, Default)]
+pub enum EnergyUnit {
+    /// Hartree, Eh.
+    Hartree,
+    /// Millihartree, mEh.
+    #[default]
+    Millihartree,
+    /// Electronvolt.
+    ElectronVolt,
+    /// Kilocalorie per mole.
+    KcalPerMol,
+    /// Kilojoule per mole.
+    KjPerMol,
+}
+
+impl EnergyUnit {
+    /// All units, in listing order.
+    pub const ALL: [EnergyUnit; 5] = [
+        EnergyUnit::Hartree,
+        EnergyUnit::Millihartree,
+        EnergyUnit::ElectronVolt,
+        EnergyUnit::KcalPerMol,
+        EnergyUnit::KjPerMol,
+    ];
+
+    /// Value of one hartree in this unit (CODATA 2018 conversion factors; common practice).
+    pub fn per_hartree(self) -> f64 {
+        match self {
+            EnergyUnit::Hartree => 1.0,
+            EnergyUnit::Millihartree => 1e3,
+            EnergyUnit::ElectronVolt => 27.211_386_245_988,
+            EnergyUnit::KcalPerMol => 627.509_474_063_1,
+            EnergyUnit::KjPerMol => 2_625.499_639_479_9,
+        }
+    }
+
+    /// Symbol for headers.
+    pub fn symbol(self) -> &'static str {
+        match self {
+            EnergyUnit::Hartree => "Eh",
+            EnergyUnit::Millihartree => "mEh",
+            EnergyUnit::ElectronVolt => "eV",
+            EnergyUnit::KcalPerMol => "kcal/mol",
+            EnergyUnit::KjPerMol => "kJ/mol",
+        }
+    }
+
+    /// Name accepted on the command line.
+    pub fn name(self) -> &'static str {
+        match self {
+            EnergyUnit::Hartree => "hartree",
+            EnergyUnit::Millihartree => "millihartree",
+            EnergyUnit::ElectronVolt => "ev",
+            EnergyUnit::KcalPerMol => "kcal/mol",
+            EnergyUnit::KjPerMol => "kj/mol",
+        }
+    }
+
+    /// Decimals that resolve about 1 µEh.
+    fn decimals(self) -> usize {
+        match self {
+            EnergyUnit::Hartree => 6,
+            EnergyUnit::Millihartree => 3,
+            EnergyUnit::ElectronVolt => 5,
+            EnergyUnit::KcalPerMol | EnergyUnit::KjPerMol => 3,
+        }
+    }
+
+    /// `hartree` converted and printed with this unit's decimals (no symbol).
+    pub fn format(self, hartree: f64) -> String {
+        format!("{:.*}", self.decimals(), hartree * self.per_hartree())
+    }
+}
+
+impl FromStr for EnergyUnit {
+    type Err = String;
+    fn from_str(s: &str) -> Result<Self, String> {
+        let key = s.trim().to_ascii_lowercase();
+        EnergyUnit::ALL
+            .into_iter()
+            .find(|u| u.name() == key || u.symbol().to_ascii_lowercase() == key)
+            .ok_or_else(|| {
+                let names = EnergyUnit::ALL.map(|u| u.name()).join(", ");
+                format!("unknown energy unit `{s}`; expected one of {names}")
+            })
+    }
+}
+
+/// What a report shows: a ranked calculation and its models.
+#[derive(Clone, Copy, Debug)]
+pub struct Report<'a> {
+    /// The models, in the order of each orbital's model entries.
+    pub models: &'a [Model],
+    /// The ranked calculation.
+    pub outcome: &'a Outcome,
+    /// Show only the first `top` orbitals of the ranking (totals still cover all).
+    pub top: Option<usize>,
+}
+
+impl Report<'_> {
+    /// The orbitals shown, worst first.
+    pub fn shown(&self) -> &[crate::diagnostics::OrbitalReport] {
+        let all = &self.outcome.ranking.orbitals;
+        &all[..self.top.unwrap_or(all.len()).min(all.len())]
+    }
+}
+
+/// Writes `bytes` to `path` atomically: a temporary file in the same directory, flushed to disk,
+/// then renamed over the target, so readers never see a half-written report.
+pub fn write_atomic(path: &Path, bytes: &[u8]) -> std::io::Result<()> {
+    let dir = match path.parent() {
+        Some(d) if !d.as_os_str().is_empty() => d,
+        _ => Path::new("."),
+    };
+    let mut tmp = tempfile::Builder::new().prefix(".sixray-").suffix(".tmp").tempfile_in(dir)?;
+    tmp.write_all(bytes)?;
+    tmp.as_file().sync_all()?;
+    tmp.persist(path).map_err(|e| e.error)?;
+    Ok(())
+}
+
+#[cfg(test)]
+mod tests {
+    use super::*;
+
+    #[test]
+    fn units_parse_and_convert() {
+        assert_eq!("mEh".parse::<EnergyUnit>(), Ok(EnergyUnit::Millihartree));
+        assert_eq!("kcal/mol".parse::<EnergyUnit>(), Ok(EnergyUnit::KcalPerMol));
+        assert_eq!("EV".parse::<EnergyUnit>(), Ok(EnergyUnit::ElectronVolt));
+        assert!("joule".parse::<EnergyUnit>().unwrap_err().contains("millihartree"));
+        assert_eq!(EnergyUnit::Millihartree.format(-0.0123456), "-12.346");
+    }
+
+    #[test]
+    fn atomic_write_replaces_whole_files() {
+        let dir = tempfile::tempdir().unwrap();
+        let p = dir.path().join("out.json");
+        write_atomic(&p, b"first").unwrap();
+        write_atomic(&p, b"second").unwrap();
+        assert_eq!(std::fs::read(&p).unwrap(), b"second");
+        // No temporary files are left behind.
+        assert_eq!(std::fs::read_dir(dir.path()).unwrap().count(), 1);
+    }
+}

@@ -1,0 +1,190 @@
+//! Reports for people: an aligned table for the terminal and a Markdown document.
+//!
+//! The terminal table is compact (one δ and one cancellation ratio per model); Markdown carries
+//! every energy, since documents can be wide.
+
+use super::{EnergyUnit, Report};
+use crate::diagnostics::OrbitalReport;
+
+/// A table of text cells with per-column alignment.
+struct Table {
+    header: Vec<String>,
+    right: Vec<bool>,
+    rows: Vec<Vec<String>>,
+}
+
+impl Table {
+    fn new(columns: &[(&str, bool)]) -> Self {
+        Table {
+            header: columns.iter().map(|c| c.0.to_string()).collect(),
+            right: columns.iter().map(|c| c.1).collect(),
+            rows: Vec::new(),
+        }
+    }
+
+    fn push(&mut self, header: String, right: bool) {
+        self.header.push(header);
+        self.right.push(right);
+    }
+
+    fn widths(&self) -> Vec<usize> {
+        (0..self.header.len())
+            .map(|c| {
+                std::iter::once(&self.header[c])
+                    .chain(self.rows.iter().map(|r| &r[c]))
+                    .map(|s| s.chars().count())
+                    .max()
+                    .unwrap_or(0)
+            })
+            .collect()
+    }
+
+    fn line(&self, cells: &[String], widths: &[usize], sep: &str) -> String {
+        cells
+            .iter()
+            .zip(widths)
+            .zip(&self.right)
+            .map(|((s, &w), &right)| if right { format!("{s:>w$}") } else { format!("{s:<w$}") })
+            .collect::<Vec<_>>()
+            .join(sep)
+    }
+
+    /// Columns separated by two spaces, the header underlined.
+    fn plain(&self, indent: &str) -> String {
+        let widths = self.widths();
+        let mut out = format!("{indent}{}\n", self.line(&self.header, &widths, "  ").trim_end());
+        let rule = widths.iter().map(|&w| "─".repeat(w)).collect::<Vec<_>>().join("  ");
+        out += &format!("{indent}{rule}\n");
+        for row in &self.rows {
+            out += &format!("{indent}{}\n", self.line(row, &widths, "  ").trim_end());
+        }
+        out
+    }
+
+    fn markdown(&self) -> String {
+        let escape = |s: &String| s.replace('|', "\\|");
+        let cells = |r: &[String]| format!("| {} |\n", r.iter().map(escape).collect::<Vec<_>>().join(" | "));
+        let rule = self.right.iter().map(|&r| if r { "---:" } else { ":---" }).collect::<Vec<_>>();
+        let mut out = cells(&self.header);
+        out += &format!("|{}|\n", rule.join("|"));
+        for row in &self.rows {
+            out += &cells(row);
+        }
+        out
+    }
+}
+
+/// Columns every orbital row starts with.
+fn orbital_table(unit: EnergyUnit) -> Table {
+    Table::new(&[
+        ("#", true),
+        ("orbital", false),
+        ("spin", false),
+        ("norm", true),
+        (&format!("J ({})", unit.symbol()), true),
+        ("α*", true),
+    ])
+}
+
+fn orbital_cells(rank: usize, o: &OrbitalReport, unit: EnergyUnit) -> Vec<String> {
+    vec![
+        rank.to_string(),
+        o.label.clone(),
+        o.spin.as_str().to_string(),
+        format!("{:.4}", o.norm),
+        unit.format(o.hartree),
+        format!("{:.4}", o.optimal_alpha),
+    ]
+}
+
+/// Per-model totals: Perdew–Zunger correction and mean cancellation.
+fn totals_table(report: &Report, unit: EnergyUnit) -> Table {
+    let mut t = Table::new(&[
+        ("model", false),
+        ("exchange", false),
+        ("correlation", false),
+        (&format!("PZ correction ({})", unit.symbol()), true),
+        ("mean −Ex/J", true),
+    ]);
+    for (m, tot) in report.models.iter().zip(&report.outcome.ranking.totals) {
+        t.rows.push(vec![
+            m.name.clone(),
+            m.exchange.id(),
+            m.correlation.as_ref().map_or("—".into(), |c| c.id()),
+            unit.format(tot.perdew_zunger),
+            format!("{:.4}", tot.mean_cancellation),
+        ]);
+    }
+    t
+}
+
+fn caption(report: &Report, unit: EnergyUnit) -> String {
+    let r = &report.outcome.ranking;
+    let by = report.models.get(r.rank_by).map_or("", |m| m.name.as_str());
+    let shown = report.shown().len();
+    let of = if shown < r.orbitals.len() { format!("worst {shown} of ") } else { String::new() };
+    format!(
+        "{of}{} orbital records ({} occupied spin-orbitals), worst first by |δ| under {by}; energies in {}",
+        r.orbitals.len(),
+        r.spin_orbitals,
+        unit.symbol()
+    )
+}
+
+/// The terminal table.
+pub fn render_table(report: &Report, unit: EnergyUnit) -> String {
+    let mut t = orbital_table(unit);
+    for m in report.models {
+        t.push(format!("δ {}", m.name), true);
+        t.push(format!("−Ex/J {}", m.name), true);
+    }
+    for (i, o) in report.shown().iter().enumerate() {
+        let mut row = orbital_cells(i + 1, o, unit);
+        for e in &o.models {
+            row.push(unit.format(e.self_interaction));
+            row.push(format!("{:.4}", e.cancellation));
+        }
+        t.rows.push(row);
+    }
+    let mut out = format!("{}\n\n{}\n", caption(report, unit), t.plain("  "));
+    if !report.outcome.ranking.orbitals.is_empty() {
+        out += &format!("Per model, over all {} spin-orbitals:\n\n", report.outcome.ranking.spin_orbitals);
+        out += &totals_table(report, unit).plain("  ");
+    }
+    let failed = report.outcome.failures.len();
+    if failed > 0 {
+        out += &format!("\n{failed} file(s) could not be analysed:\n");
+        for f in &report.outcome.failures {
+            out += &format!("  {}\n", f.error);
+        }
+    }
+    out
+}
+
+/// The Markdown document.
+pub fn render_markdown(report: &Report, unit: EnergyUnit) -> String {
+    let mut t = orbital_table(unit);
+    for m in report.models {
+        for q in ["E_x", "E_c", "δ", "−E_x/J"] {
+            t.push(format!("{q} {}", m.name), true);
+        }
+    }
+    for (i, o) in report.shown().iter().enumerate() {
+        let mut row = orbital_cells(i + 1, o, unit);
+        for e in &o.models {
+            row.extend([unit.format(e.exchange), unit.format(e.correlation), unit.format(e.self_interaction)]);
+            row.push(format!("{:.4}", e.cancellation));
+        }
+        t.rows.push(row);
+    }
+    let mut out = format!("# Self-interaction ranking\n\n{}.\n\n{}", caption(report, unit), t.markdown());
+    out += "\n## Per model\n\n";
+    out += &totals_table(report, unit).markdown();
+    if !report.outcome.failures.is_empty() {
+        out += "\n## Files that could not be analysed\n\n";
+        for f in &report.outcome.failures {
+            out += &format!("- `{}`: {}\n", f.source, f.error.replace('\n', " "));
+        }
+    }
+    out
+}

@@ -1,0 +1,245 @@
+//! The real `sixray` binary, run in temporary directories.
+
+use serde_json::Value;
+use std::fmt::Write as _;
+use std::path::{Path, PathBuf};
+use std::process::{Command, Output};
+
+fn sixray(args: &[&str], dir: &Path) -> Output {
+    Command::new(env!("CARGO_BIN_EXE_sixray")).args(args).current_dir(dir).output().expect("run sixray")
+}
+
+fn samples() -> PathBuf {
+    PathBuf::from(env!("CARGO_MANIFEST_DIR")).join("samples")
+}
+
+fn stdout(o: &Output) -> String {
+    String::from_utf8_lossy(&o.stdout).into_owned()
+}
+
+fn stderr(o: &Output) -> String {
+    String::from_utf8_lossy(&o.stderr).into_owned()
+}
+
+fn json(o: &Output) -> Value {
+    serde_json::from_slice(&o.stdout).unwrap_or_else(|e| panic!("{e}: {}", stdout(o)))
+}
+
+/// A cube file of a normalised Gaussian amplitude √n (n = (a/π)^{3/2} e^{−a r²}, a = 1) on a
+/// cubic grid of `points` per axis and step `h` bohr, written in Å with negative counts when
+/// `angstrom`, squared (a density file) when `density`. Invented data for these tests.
+fn gaussian_cube(points: usize, h: f64, angstrom: bool, density: bool) -> String {
+    let scale = if angstrom { 0.529_177_210_903 } else { 1.0 };
+    let sign = if angstrom { -1 } else { 1 };
+    let o = -(points as f64 - 1.0) * h / 2.0;
+    let mut s = String::from("test orbital\na Gaussian\n");
+    let _ = writeln!(s, "{:5}{:12.6}{:12.6}{:12.6}", 1, o * scale, o * scale, o * scale);
+    for a in 0..3 {
+        let mut v = [0.0; 3];
+        v[a] = h * scale;
+        let _ = writeln!(s, "{:5}{:12.6}{:12.6}{:12.6}", sign * points as i64, v[0], v[1], v[2]);
+    }
+    let _ = writeln!(s, "{:5}{:12.6}{:12.6}{:12.6}{:12.6}", 1, 1.0, 0.0, 0.0, 0.0);
+    for i in 0..points {
+        for j in 0..points {
+            for k in 0..points {
+                let r2 = [i, j, k].iter().map(|&x| (o + x as f64 * h).powi(2)).sum::<f64>();
+                let n = std::f64::consts::PI.powf(-1.5) * (-r2).exp();
+                let _ = write!(s, "{:14.6E}", if density { n } else { n.sqrt() });
+                if k % 6 == 5 {
+                    s.push('\n');
+                }
+            }
+            s.push('\n');
+        }
+    }
+    s
+}
+
+#[test]
+fn ranks_a_multi_orbital_sample_as_json() {
+    let dir = tempfile::tempdir().unwrap();
+    let file = samples().join("water/occupied.cube.gz");
+    let out = sixray(&["rank", "-f", "json", "-m", "lsda", "-m", "slater", file.to_str().unwrap()], dir.path());
+    assert!(out.status.success(), "{}", stderr(&out));
+    let v = json(&out);
+    assert_eq!(v["units"], "hartree");
+    assert_eq!(v["rank_by"], "lsda");
+    let orbitals = v["orbitals"].as_array().unwrap();
+    assert_eq!(orbitals.len(), 5);
+    assert_eq!(v["spin_orbitals"], 10);
+    let delta = |o: &Value, m: &str| o["models"][m]["self_interaction"].as_f64().unwrap();
+    for (i, o) in orbitals.iter().enumerate() {
+        assert_eq!(o["rank"], i + 1);
+        assert_eq!(o["spin"], "restricted");
+        for key in ["source", "label", "occupation", "norm", "hartree", "optimal_alpha"] {
+            assert!(!o[key].is_null(), "{key} missing in {o}");
+        }
+        let (j, m) = (o["hartree"].as_f64().unwrap(), &o["models"]["lsda"]);
+        let (x, c) = (m["exchange"].as_f64().unwrap(), m["correlation"].as_f64().unwrap());
+        assert!((delta(o, "lsda") - (j + x + c)).abs() < 1e-12);
+        assert!((m["cancellation"].as_f64().unwrap() + x / j).abs() < 1e-12);
+        assert_eq!(o["models"]["slater"]["correlation"], 0.0);
+        if i > 0 {
+            assert!(delta(&orbitals[i - 1], "lsda").abs() >= delta(o, "lsda").abs());
+        }
+    }
+    // Restricted orbitals count twice in the Perdew–Zunger sum.
+    for m in ["lsda", "slater"] {
+        let want = -2.0 * orbitals.iter().map(|o| delta(o, m)).sum::<f64>();
+        let got = v["totals"][m]["perdew_zunger"].as_f64().unwrap();
+        assert!((got - want).abs() < 1e-12, "{m}: {got} vs {want}");
+    }
+    let labels: Vec<_> = orbitals.iter().map(|o| o["label"].as_str().unwrap().to_string()).collect();
+    for k in 1..=5 {
+        assert!(labels.contains(&format!("occupied#{k}")), "{labels:?}");
+    }
+}
+
+#[test]
+fn spins_come_from_file_names_and_can_be_forced() {
+    let dir = tempfile::tempdir().unwrap();
+    let files: Vec<String> = std::fs::read_dir(samples().join("hydroxyl_radical"))
+        .unwrap()
+        .map(|e| e.unwrap().path().display().to_string())
+        .collect();
+    let mut args = vec!["rank", "-f", "json"];
+    args.extend(files.iter().map(String::as_str));
+    let v = json(&sixray(&args, dir.path()));
+    let spins: Vec<_> = v["orbitals"].as_array().unwrap().iter().map(|o| o["spin"].as_str().unwrap().to_string()).collect();
+    assert_eq!(spins.iter().filter(|s| *s == "alpha").count(), 5);
+    assert_eq!(spins.iter().filter(|s| *s == "beta").count(), 4);
+    assert_eq!(v["spin_orbitals"], 9);
+
+    args.extend(["--spin", "restricted"]);
+    let v = json(&sixray(&args, dir.path()));
+    assert_eq!(v["spin_orbitals"], 18);
+}
+
+#[test]
+fn formats_units_top_and_output_file() {
+    let dir = tempfile::tempdir().unwrap();
+    let file = samples().join("lithium_hydride/orbital_002.cube.gz");
+    let f = file.to_str().unwrap();
+    let j = json(&sixray(&["rank", "-f", "json", f], dir.path()))["orbitals"][0]["hartree"].as_f64().unwrap();
+
+    let table = stdout(&sixray(&["rank", f, "--units", "ev"], dir.path()));
+    assert!(table.contains("J (eV)") && table.contains("PZ correction (eV)"), "{table}");
+    assert!(table.contains(&format!("{:.5}", j * 27.211_386_245_988)), "{table}");
+
+    let md = stdout(&sixray(&["rank", "-f", "markdown", "-m", "lsda", "-m", "xalpha=0.7", f], dir.path()));
+    assert!(md.starts_with("# Self-interaction ranking"), "{md}");
+    assert!(md.contains("| E_x xalpha=0.7 |") && md.contains("|---:|"), "{md}");
+
+    let csv = stdout(&sixray(&["rank", "-f", "csv", "-m", "lsda", "-m", "slater", f], dir.path()));
+    let lines: Vec<_> = csv.lines().collect();
+    assert_eq!(lines[0], "rank,source,label,spin,occupation,norm,hartree,optimal_alpha,model,exchange,correlation,self_interaction,cancellation");
+    assert_eq!(lines.len(), 3, "one row per orbital and model: {csv}");
+
+    // --top limits the rows, not the totals; --output writes the same text atomically.
+    let all = samples().join("hydroxide");
+    let files: Vec<String> = (1..=5).map(|i| all.join(format!("orbital_{i:03}.cube.gz")).display().to_string()).collect();
+    let mut args = vec!["rank", "-f", "json", "--top", "2"];
+    args.extend(files.iter().map(String::as_str));
+    let top = sixray(&args, dir.path());
+    let v = json(&top);
+    assert_eq!(v["orbitals"].as_array().unwrap().len(), 2);
+    assert_eq!(v["spin_orbitals"], 10);
+    args.extend(["-o", "report.json"]);
+    let written = sixray(&args, dir.path());
+    assert!(written.status.success() && written.stdout.is_empty());
+    assert_eq!(std::fs::read(dir.path().join("report.json")).unwrap(), top.stdout);
+}
+
+#[test]
+fn rank_by_adds_the_model_and_orders_by_it() {
+    let dir = tempfile::tempdir().unwrap();
+    let f = samples().join("water/occupied.cube.gz");
+    let v = json(&sixray(&["rank", "-f", "json", "--rank-by", "slater", f.to_str().unwrap()], dir.path()));
+    assert_eq!(v["rank_by"], "slater");
+    assert_eq!(v["models"].as_array().unwrap().len(), 2, "lsda (default) and slater");
+    let d: Vec<f64> = v["orbitals"]
+        .as_array()
+        .unwrap()
+        .iter()
+        .map(|o| o["models"]["slater"]["self_interaction"].as_f64().unwrap().abs())
+        .collect();
+    assert!(d.windows(2).all(|w| w[0] >= w[1]), "{d:?}");
+}
+
+#[test]
+fn units_kinds_and_occupations_of_synthetic_files_agree() {
+    // The same Gaussian orbital written in bohr, in Ångström and as a density gives the same J;
+    // J = √(1/2π) for the normalised Gaussian with a = 1 (textbook), up to the six printed digits.
+    let dir = tempfile::tempdir().unwrap();
+    let p = dir.path();
+    std::fs::write(p.join("bohr.cube"), gaussian_cube(41, 0.3, false, false)).unwrap();
+    std::fs::write(p.join("angstrom.cube"), gaussian_cube(41, 0.3, true, false)).unwrap();
+    std::fs::write(p.join("dens.cube"), gaussian_cube(41, 0.3, false, true)).unwrap();
+    let j = |args: &[&str]| -> (f64, f64) {
+        let out = sixray(args, p);
+        assert!(out.status.success(), "{}", stderr(&out));
+        let o = &json(&out)["orbitals"][0];
+        (o["hartree"].as_f64().unwrap(), o["norm"].as_f64().unwrap())
+    };
+    let want = (1.0 / (2.0 * std::f64::consts::PI)).sqrt();
+    let (bohr, norm) = j(&["rank", "-f", "json", "bohr.cube"]);
+    assert!((bohr - want).abs() < 1e-5 * want, "{bohr} vs {want}");
+    assert!((norm - 1.0).abs() < 1e-5);
+    let (ang, _) = j(&["rank", "-f", "json", "angstrom.cube"]);
+    assert!((ang - bohr).abs() < 1e-5 * want, "{ang} vs {bohr}");
+    let (dens, _) = j(&["rank", "-f", "json", "--kind", "density", "dens.cube"]);
+    assert!((dens - bohr).abs() < 1e-5 * want, "{dens} vs {bohr}");
+    // Half an electron: a quarter of J, half the norm.
+    let (half, half_norm) = j(&["rank", "-f", "json", "--occupation", "0.5", "bohr.cube"]);
+    assert!((half - 0.25 * bohr).abs() < 1e-12 && (half_norm - 0.5 * norm).abs() < 1e-12);
+}
+
+#[test]
+fn a_bad_file_is_reported_and_the_good_ones_still_ranked() {
+    let dir = tempfile::tempdir().unwrap();
+    let p = dir.path();
+    let good = gaussian_cube(21, 0.5, false, false);
+    std::fs::write(p.join("good.cube"), &good).unwrap();
+    // Line 9 (the second data line) holds a word where a number belongs.
+    let mut lines: Vec<String> = good.lines().map(String::from).collect();
+    lines[8] = lines[8].replacen("E", "X", 1);
+    std::fs::write(p.join("broken.cube"), lines.join("\n")).unwrap();
+    let out = sixray(&["rank", "-f", "json", "good.cube", "broken.cube", "missing.cube"], p);
+    assert_eq!(out.status.code(), Some(2));
+    let err = stderr(&out);
+    assert!(err.contains("broken.cube:9:"), "{err}");
+    assert!(err.contains("missing.cube"), "{err}");
+    let v = json(&out);
+    assert_eq!(v["orbitals"].as_array().unwrap().len(), 1);
+    assert_eq!(v["orbitals"][0]["label"], "good");
+    assert_eq!(v["failures"].as_array().unwrap().len(), 2);
+}
+
+#[test]
+fn bad_arguments_exit_with_status_two() {
+    let dir = tempfile::tempdir().unwrap();
+    let f = samples().join("lithium_hydride/orbital_001.cube.gz");
+    let f = f.to_str().unwrap();
+    for (args, needle) in [
+        (vec!["rank", "-m", "lsdaa", f], "unknown model `lsdaa`"),
+        (vec!["rank", "-m", "xalpha=-2", f], "α must be a positive number"),
+        (vec!["rank", "--occupation", "1.5", f], "--occupation"),
+        (vec!["rank", "--units", "joule", f], "unknown energy unit"),
+        (vec!["rank", "-m", "lsda", "-m", "lsda", f], "twice"),
+        (vec!["rank"], "FILE"),
+    ] {
+        let out = sixray(&args, dir.path());
+        assert_eq!(out.status.code(), Some(2), "{args:?}");
+        assert!(stderr(&out).contains(needle), "{args:?}: {}", stderr(&out));
+    }
+}
+
+#[test]
+fn models_are_listed_with_references() {
+    let out = sixray(&["models"], Path::new("."));
+    let text = stdout(&out);
+    for needle in ["lsda", "lsda-x", "slater", "xalpha=VALUE", "Perdew and Y. Wang"] {
+        assert!(text.contains(needle), "{needle}: {text}");
+    }
+}
