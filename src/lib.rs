@@ -11,6 +11,7 @@
 
 pub mod calculation;
 pub mod diagnostics;
+pub mod gradient;
 pub mod grid;
 pub mod input;
 pub mod par;

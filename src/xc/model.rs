@@ -89,7 +89,7 @@ mod tests {
     #[test]
     fn resolves_names() {
         let m = Model::from_name("lsda").unwrap();
-        assert_eq!(m.exchange.id(), "lda-x");
+        assert_eq!(m.exchange.id(), "lsda");
         assert_eq!(m.correlation.as_ref().unwrap().id(), "pw92");
         assert!(Model::from_name("lsda-x").unwrap().correlation.is_none());
         assert_eq!(Model::from_name("xalpha=0.75").unwrap().name, "xalpha=0.75");

@@ -31,7 +31,7 @@ impl XAlpha {
 
 impl Functional for XAlpha {
     fn id(&self) -> String {
-        if self.alpha == LSDA_ALPHA { "lda-x".into() } else { format!("xalpha({})", self.alpha) }
+        if self.alpha == LSDA_ALPHA { "lsda".into() } else { format!("xalpha({})", self.alpha) }
     }
     fn part(&self) -> Part {
         Part::Exchange

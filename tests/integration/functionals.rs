@@ -4,14 +4,20 @@
 use crate::common::analytic;
 use approx::{assert_relative_eq, relative_eq};
 use sixray::quadrature::{radial_rule, spherical_self_energy};
-use sixray::xc::pw92::Pw92;
-use sixray::xc::slater::XAlpha;
-use sixray::xc::{Functional, XcPoint};
+use sixray::xc::{Functional, Part, XcPoint, catalogue};
 use std::f64::consts::PI;
+use std::sync::Arc;
 
-/// The functionals implemented so far, keyed as in the reference file.
-fn implemented() -> Vec<(&'static str, Box<dyn Functional>)> {
-    vec![("lsda_x", Box::new(XAlpha::lsda())), ("pw92_c", Box::new(Pw92))]
+/// The functional whose values `analytic.json` stores under `key` (`<id>_x` or `<id>_c`).
+fn functional(key: &str) -> Arc<dyn Functional> {
+    catalogue()
+        .into_iter()
+        .find(|f| reference_key(f.as_ref()) == key)
+        .unwrap_or_else(|| panic!("no functional for reference key {key}"))
+}
+
+fn reference_key(f: &dyn Functional) -> String {
+    format!("{}_{}", f.id(), if f.part() == Part::Exchange { "x" } else { "c" })
 }
 
 /// A spherical density: r (bohr) ↦ (n, dn/dr).
@@ -21,57 +27,84 @@ fn num(v: &serde_json::Value, key: &str) -> f64 {
     v[key].as_f64().unwrap_or_else(|| panic!("reference value `{key}` missing"))
 }
 
-#[test]
-fn point_values_match_libxc() {
+/// Point values against libxc.
+fn check_point_values(key: &str) {
     // reference: libxc 7.0.0 via PySCF 2.14, analytic.json point_values (e = n·ε per volume)
-    let Some(data) = analytic("point_values_match_libxc") else { return };
+    let Some(data) = analytic(&format!("point values of {key}")) else { return };
     let points = data["point_values"]["points"].as_array().expect("points");
     assert!(points.len() >= 5);
-    for (key, f) in implemented() {
-        for p in points {
-            let (ga, gb) = (num(p, "grad_up_x"), num(p, "grad_down_x"));
-            let input = XcPoint {
-                rho: [num(p, "rho_up"), num(p, "rho_down")],
-                sigma: [ga * ga, ga * gb, gb * gb],
-                tau: [num(p, "tau_up"), num(p, "tau_down")],
-            };
-            let (got, want) = (f.energy_density(&input), num(p, key));
-            assert!(relative_eq!(got, want, max_relative = 1e-10, epsilon = 1e-14), "{key} at {input:?}: {got:e} vs {want:e}");
-        }
+    let f = functional(key);
+    for p in points {
+        let (ga, gb) = (num(p, "grad_up_x"), num(p, "grad_down_x"));
+        let input = XcPoint {
+            rho: [num(p, "rho_up"), num(p, "rho_down")],
+            sigma: [ga * ga, ga * gb, gb * gb],
+            tau: [num(p, "tau_up"), num(p, "tau_down")],
+        };
+        let (got, want) = (f.energy_density(&input), num(p, key));
+        assert!(relative_eq!(got, want, max_relative = 1e-9, epsilon = 1e-12), "{key} at {input:?}: {got:e} vs {want:e}");
     }
 }
 
-#[test]
-fn self_energies_of_analytic_densities_match_libxc_radial_quadrature() {
+/// Self-energies of the analytic densities by the reference's own radial rule.
+fn check_radial_self_energies(key: &str) {
     // reference: libxc 7.0.0 via PySCF 2.14, analytic.json densities (4000-point radial
-    // Gauss–Legendre, r = r_max t³); we integrate our functionals with the same rule.
-    let Some(data) = analytic("self_energies_of_analytic_densities") else { return };
+    // Gauss–Legendre, r = r_max t³); we integrate our functional with the same rule, so the
+    // comparison isolates the functional.
+    let Some(data) = analytic(&format!("radial self-energies of {key}")) else { return };
+    let f = functional(key);
     for d in data["densities"].as_array().expect("densities") {
-        let (density, r_max): (Radial, f64) = match d["kind"].as_str() {
-            Some("hydrogenic_1s") => {
-                let z = num(d, "zeta");
-                (Box::new(move |r: f64| {
-                    let n = z.powi(3) / PI * (-2.0 * z * r).exp();
-                    (n, -2.0 * z * n)
-                }), 40.0 / z)
-            }
-            Some("gaussian") => {
-                let a = num(d, "exponent");
-                (Box::new(move |r: f64| {
-                    let n = (a / PI).powf(1.5) * (-a * r * r).exp();
-                    (n, -2.0 * a * r * n)
-                }), 30.0 / a.sqrt())
-            }
-            other => panic!("unknown density kind {other:?}"),
-        };
-        let rule = radial_rule(4000, r_max);
-        for (key, f) in implemented() {
-            let got = spherical_self_energy(f.as_ref(), &density, &rule);
-            let want = num(d, key);
-            assert!(relative_eq!(got, want, max_relative = 1e-10, epsilon = 1e-14), "{key} {}: {got} vs {want}", d["kind"]);
-        }
+        let (density, r_max) = radial_density(d);
+        let got = spherical_self_energy(f.as_ref(), &density, &radial_rule(4000, r_max));
+        let want = num(d, key);
+        assert!(relative_eq!(got, want, max_relative = 1e-9, epsilon = 1e-13), "{key} {}: {got} vs {want}", d["kind"]);
     }
 }
+
+/// n(r) and dn/dr of an analytic.json density, and the radial extent its reference used.
+fn radial_density(d: &serde_json::Value) -> (Radial, f64) {
+    match d["kind"].as_str() {
+        Some("hydrogenic_1s") => {
+            let z = num(d, "zeta");
+            (Box::new(move |r: f64| {
+                let n = z.powi(3) / PI * (-2.0 * z * r).exp();
+                (n, -2.0 * z * n)
+            }), 40.0 / z)
+        }
+        Some("gaussian") => {
+            let a = num(d, "exponent");
+            (Box::new(move |r: f64| {
+                let n = (a / PI).powf(1.5) * (-a * r * r).exp();
+                (n, -2.0 * a * r * n)
+            }), 30.0 / a.sqrt())
+        }
+        other => panic!("unknown density kind {other:?}"),
+    }
+}
+
+/// Point-value and radial tests for each functional, named after its reference key.
+macro_rules! functional_tests {
+    ($($key:ident),* $(,)?) => {
+        mod point_values {
+            $( #[test] fn $key() { super::check_point_values(stringify!($key)); } )*
+        }
+        mod radial_self_energies {
+            $( #[test] fn $key() { super::check_radial_self_energies(stringify!($key)); } )*
+        }
+        #[test]
+        fn every_catalogued_functional_is_tested() {
+            let tested = [$(stringify!($key)),*];
+            for f in catalogue() {
+                assert!(tested.contains(&reference_key(f.as_ref()).as_str()), "{} untested", f.id());
+            }
+        }
+    };
+}
+
+functional_tests!(lsda_x, b88_x, pbe_x, pw91_x, scan_x, r2scan_x, pw92_c, vwn5_c, pbe_c, lyp_c, scan_c, r2scan_c);
+
+/// Functionals of the density alone, checked on grids here.
+const LOCAL: [&str; 2] = ["lsda_x", "pw92_c"];
 
 /// The functionals and J of a spherical density sampled on a cubic grid of spacing `h` centred
 /// at `offset` (in units of h) from a grid point.
@@ -87,9 +120,10 @@ fn grid_energies(density: &dyn Fn(f64) -> f64, h: f64, radius: f64, offset: f64)
         .self_energy(&n, Parallelism::Rayon)
         .unwrap();
     let w = g.voxel_volume();
-    let e = implemented()
+    let e = LOCAL
         .iter()
-        .map(|(_, f)| w * n.iter().map(|&v| f.energy_density(&XcPoint::polarized(v, 0.0, 0.0))).sum::<f64>())
+        .map(|k| functional(k))
+        .map(|f| w * n.iter().map(|&v| f.energy_density(&XcPoint::polarized(v, 0.0, 0.0))).sum::<f64>())
         .collect();
     (j, e)
 }
@@ -100,7 +134,7 @@ fn grid_sums_reproduce_analytic_self_energies() {
     let Some(data) = analytic("grid_sums_reproduce_analytic_self_energies") else { return };
     let densities = data["densities"].as_array().expect("densities");
     for d in densities {
-        let keys: Vec<_> = implemented().iter().map(|(k, _)| *k).collect();
+        let keys = LOCAL;
         match d["kind"].as_str() {
             Some("gaussian") => {
                 // Smooth and resolved (Fourier content e^{−k²/4a} below e^{−35} beyond the
