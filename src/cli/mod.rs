@@ -3,6 +3,8 @@
 mod rank;
 
 use clap::{Parser, Subcommand};
+use sixray::xc::model::{BUILTIN, ModelLibrary};
+use sixray::xc::{Part, catalogue};
 
 /// Per-orbital one-electron self-interaction diagnostics from orbital grid files.
 #[derive(Debug, Parser)]
@@ -20,8 +22,15 @@ pub struct Cli {
 enum Command {
     /// Rank the occupied spin-orbitals of one calculation by self-interaction error.
     Rank(rank::RankArgs),
-    /// List the exchange-correlation models.
-    Models,
+    /// List the exchange-correlation models and functionals.
+    Models(ModelsArgs),
+}
+
+#[derive(Debug, clap::Args)]
+struct ModelsArgs {
+    /// Also list the user-defined models of this YAML file.
+    #[arg(long, value_name = "FILE")]
+    models_file: Option<std::path::PathBuf>,
 }
 
 /// How a run ended.
@@ -52,23 +61,39 @@ pub fn run(cli: Cli) -> anyhow::Result<Status> {
     let pool = pool.build()?;
     pool.install(|| match cli.command {
         Command::Rank(args) => rank::run(args),
-        Command::Models => {
-            print!("{}", models_listing());
+        Command::Models(args) => {
+            let library = match &args.models_file {
+                Some(path) => ModelLibrary::builtin().with_file(path)?,
+                None => ModelLibrary::builtin(),
+            };
+            print!("{}", models_listing(&library));
             Ok(Status::Success)
         }
     })
 }
 
-fn models_listing() -> String {
-    let mut out = String::new();
-    for name in sixray::xc::model::BUILTIN.iter().copied().chain(["xalpha=0.7"]) {
-        let m = sixray::xc::Model::from_name(name).expect("built-in names resolve");
-        let shown = if name.starts_with("xalpha=") { "xalpha=VALUE" } else { name };
-        out += &format!("{shown:<14} {}\n", m.summary);
-        out += &format!("{:<14}   exchange: {}\n", "", m.exchange.citation());
-        if let Some(c) = &m.correlation {
-            out += &format!("{:<14}   correlation: {}\n", "", c.citation());
+fn models_listing(library: &ModelLibrary) -> String {
+    let mut out = String::from("Models (use with --model NAME):\n\n");
+    let builtin = BUILTIN.iter().map(|b| b.0).chain(["xalpha=VALUE"]);
+    for name in builtin {
+        let m = library.resolve(&name.replace("VALUE", "0.7")).expect("built-in names resolve");
+        let summary = if name == "xalpha=VALUE" { "Xα (α = VALUE) exchange only".into() } else { m.summary };
+        out += &format!("  {name:<14} {summary}\n");
+    }
+    if !library.custom().is_empty() {
+        out += "\nUser-defined models:\n\n";
+        for m in library.custom() {
+            out += &format!("  {:<14} {}\n", m.name, m.summary);
         }
+    }
+    out += "\nFunctionals (ids for user-defined models):\n\n";
+    for f in catalogue() {
+        let part = match f.part() {
+            Part::Exchange => "exchange",
+            Part::Correlation => "correlation",
+        };
+        let id = if f.id() == "lsda" { "lsda, xalpha".to_string() } else { f.id() };
+        out += &format!("  {part:<12} {id:<13} {:<9} {}\n", f.family().label(), f.citation());
     }
     out
 }

@@ -8,6 +8,7 @@ use sixray::diagnostics::{Engine, EngineParams, Spin};
 use sixray::input::{Kind, LoadParams, SpinRule};
 use sixray::report::{self, EnergyUnit, Report};
 use sixray::xc::Model;
+use sixray::xc::model::ModelLibrary;
 use std::path::PathBuf;
 
 #[derive(Debug, Args)]
@@ -16,9 +17,14 @@ pub struct RankArgs {
     #[arg(required = true, value_name = "FILE")]
     files: Vec<PathBuf>,
 
-    /// Exchange-correlation model (repeatable): lsda, lsda-x, slater, xalpha=VALUE.
+    /// Exchange-correlation model (repeatable): a name from `sixray models`, xalpha=VALUE, or a
+    /// model of --models-file.
     #[arg(short, long = "model", value_name = "NAME", default_value = "lsda")]
     models: Vec<String>,
+
+    /// YAML file of user-defined models (a `models:` list of name, exchange, correlation, alpha).
+    #[arg(long, value_name = "FILE")]
+    models_file: Option<PathBuf>,
 
     /// Model whose |δ| orders the ranking (default: the first --model).
     #[arg(long, value_name = "MODEL")]
@@ -77,9 +83,13 @@ enum Format {
 }
 
 pub fn run(args: RankArgs) -> anyhow::Result<Status> {
+    let library = match &args.models_file {
+        Some(path) => ModelLibrary::builtin().with_file(path)?,
+        None => ModelLibrary::builtin(),
+    };
     let mut models = Vec::new();
     for name in &args.models {
-        let m = Model::from_name(name).with_context(|| format!("--model {name}"))?;
+        let m = library.resolve(name).with_context(|| format!("--model {name}"))?;
         if models.iter().any(|k: &Model| k.name == m.name) {
             bail!("--model {name} is given twice");
         }
@@ -88,7 +98,7 @@ pub fn run(args: RankArgs) -> anyhow::Result<Status> {
     let rank_by = match &args.rank_by {
         None => 0,
         Some(name) => {
-            let m = Model::from_name(name).with_context(|| format!("--rank-by {name}"))?;
+            let m = library.resolve(name).with_context(|| format!("--rank-by {name}"))?;
             match models.iter().position(|k| k.name == m.name) {
                 Some(i) => i,
                 None => {

@@ -77,8 +77,19 @@ pub enum Family {
     MetaGga,
 }
 
+impl Family {
+    /// The trade's name of the family.
+    pub fn label(self) -> &'static str {
+        match self {
+            Family::Lda => "LDA",
+            Family::Gga => "GGA",
+            Family::MetaGga => "meta-GGA",
+        }
+    }
+}
+
 /// Whether a functional models exchange or correlation.
-#[derive(Clone, Copy, Debug, PartialEq, Eq)]
+#[derive(Clone, Copy, Debug, PartialEq, Eq, Hash)]
 pub enum Part {
     /// Exchange.
     Exchange,

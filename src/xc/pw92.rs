@@ -40,9 +40,7 @@ impl Pw92Params {
     fn rows(self) -> ([GParams; 3], f64) {
         let (a, fz20) = match self {
             Pw92Params::Published => ([0.031091, 0.015545, 0.016887], 1.709921),
-            Pw92Params::Refined => {
-                ([0.0310907, 0.01554535, 0.0168869], 8.0 / (9.0 * (2.0f64.powf(4.0 / 3.0) - 2.0)))
-            }
+            Pw92Params::Refined => ([0.0310907, 0.01554535, 0.0168869], 8.0 / (9.0 * F_ZETA_DENOMINATOR)),
         };
         let row = |i: usize| GParams { a: a[i], alpha1: ALPHA1[i], beta: BETAS[i] };
         ([row(0), row(1), row(2)], fz20)
@@ -56,10 +54,21 @@ fn g(p: &GParams, rs: f64) -> f64 {
     -2.0 * p.a * (1.0 + p.alpha1 * rs) * (1.0 / den).ln_1p()
 }
 
+/// 2^{4/3} − 2, the denominator of f(ζ).
+const F_ZETA_DENOMINATOR: f64 = 0.519_842_099_789_746_4;
+
+/// dG/dr_s, hartree/bohr.
+fn g_slope(p: &GParams, rs: f64) -> f64 {
+    let srs = rs.sqrt();
+    let q = p.beta[0] * srs + p.beta[1] * rs + p.beta[2] * rs * srs + p.beta[3] * rs * rs;
+    let dq = 0.5 * p.beta[0] / srs + p.beta[1] + 1.5 * p.beta[2] * srs + 2.0 * p.beta[3] * rs;
+    -2.0 * p.a * p.alpha1 * (1.0 / (2.0 * p.a * q)).ln_1p() + (1.0 + p.alpha1 * rs) * dq / (q * (q + 1.0 / (2.0 * p.a)))
+}
+
 /// Spin-interpolation function f(ζ), with (1 ± ζ) ≤ 0 contributing 0.
 pub fn f_zeta(zeta: f64) -> f64 {
     let c = |x: f64| if x > 0.0 { x * x.cbrt() } else { 0.0 };
-    (c(1.0 + zeta) + c(1.0 - zeta) - 2.0) / (2.0f64.powf(4.0 / 3.0) - 2.0)
+    (c(1.0 + zeta) + c(1.0 - zeta) - 2.0) / F_ZETA_DENOMINATOR
 }
 
 /// Wigner–Seitz radius r_s = (3/4πn)^{1/3} of a density n (electrons/bohr³), bohr.
@@ -76,6 +85,15 @@ pub fn epsilon(params: Pw92Params, rs: f64, zeta: f64) -> f64 {
     let f = f_zeta(zeta);
     let z4 = zeta.powi(4);
     e0 + alpha_c * f / fz20 * (1.0 - z4) + (e1 - e0) * f * z4
+}
+
+/// ∂ε_c/∂r_s at fixed ζ, hartree/bohr.
+pub fn epsilon_slope(params: Pw92Params, rs: f64, zeta: f64) -> f64 {
+    let ([unpolarized, polarized, stiffness], fz20) = params.rows();
+    let (d0, d1, dm) = (g_slope(&unpolarized, rs), g_slope(&polarized, rs), g_slope(&stiffness, rs));
+    let f = f_zeta(zeta);
+    let z4 = zeta.powi(4);
+    d0 - dm * f / fz20 * (1.0 - z4) + (d1 - d0) * f * z4
 }
 
 /// Total density and relative spin polarisation ζ ∈ [−1, 1] of a point.
@@ -115,6 +133,20 @@ mod tests {
     use super::*;
 
     #[test]
+    fn slope_matches_a_finite_difference() {
+        for params in [Pw92Params::Published, Pw92Params::Refined] {
+            for rs in [0.05, 1.0, 7.0, 300.0] {
+                for zeta in [0.0, 0.4, 1.0] {
+                    let h = 1e-5 * rs;
+                    let fd = (epsilon(params, rs + h, zeta) - epsilon(params, rs - h, zeta)) / (2.0 * h);
+                    let got = epsilon_slope(params, rs, zeta);
+                    assert!(((got - fd) / fd).abs() < 1e-7, "rs={rs} ζ={zeta}: {got} vs {fd}");
+                }
+            }
+        }
+    }
+
+    #[test]
     fn parameter_sets_differ_only_slightly() {
         for rs in [0.1, 1.0, 10.0] {
             for zeta in [0.0, 0.5, 1.0] {
@@ -126,5 +158,6 @@ mod tests {
         let h = 1e-4;
         let fpp = (f_zeta(h) - 2.0 * f_zeta(0.0) + f_zeta(-h)) / (h * h);
         assert!((fpp - Pw92Params::Refined.rows().1).abs() < 1e-6);
+        assert_eq!(F_ZETA_DENOMINATOR, 2.0f64.powf(4.0 / 3.0) - 2.0);
     }
 }
