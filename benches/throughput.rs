@@ -4,12 +4,13 @@
 //!    (`%13.5E`, six values per line), read plain and gzip-compressed; MB/s of cube text.
 //! 2. Engine: J plus three models (lsda, slater, xalpha=0.75) for one 128³ orbital, after the
 //!    Coulomb kernel of the grid has been built once (its cost is reported separately), on one
-//!    thread and on all threads.
+//!    thread and on all threads; then J plus all twelve functionals (seven models), density
+//!    gradients included.
 //! 3. Peak resident memory of the process (VmHWM).
 //!
 //! Each timing is the best of several runs. The data are invented for the benchmark only.
 
-use sixray::diagnostics::{Engine, EngineParams, OrbitalDensity, Spin};
+use sixray::diagnostics::{Engine, EngineParams, GridOrbital, Kind, Spin};
 use sixray::grid::GridGeometry;
 use sixray::par::Parallelism;
 use sixray::xc::Model;
@@ -22,10 +23,11 @@ use std::time::{Duration, Instant};
 const N: usize = 128;
 const H: f64 = 0.15;
 
-/// A smooth, orbital-like test function: two Gaussians of opposite sign.
+/// An orbital-like test function: exponential decay as real orbitals have (so that every grid
+/// point carries density above the functionals' floors), an s-like and a p-like part.
 fn value(r: [f64; 3]) -> f64 {
-    let g = |c: [f64; 3], a: f64| (-a * ((r[0] - c[0]).powi(2) + (r[1] - c[1]).powi(2) + (r[2] - c[2]).powi(2))).exp();
-    0.6 * g([0.0, 0.0, 0.4], 0.8) - 0.4 * g([0.0, 0.5, -0.6], 1.5)
+    let d = |c: [f64; 3]| ((r[0] - c[0]).powi(2) + (r[1] - c[1]).powi(2) + (r[2] - c[2]).powi(2)).sqrt();
+    0.5 * (-1.3 * d([0.0, 0.0, 0.4])).exp() - 0.3 * (r[1] - 0.5) * (-1.1 * d([0.0, 0.5, -0.6])).exp()
 }
 
 fn geometry() -> GridGeometry {
@@ -97,17 +99,22 @@ fn main() {
     let (t, _) = best(3, || read_cube(&gz, &ReadParams::default()).expect("read gz"));
     println!("{:<52} {:>9.0} MB/s  ({:.3} s)", "parse gzip cube (MB of text per second)", mb / t.as_secs_f64(), t.as_secs_f64());
 
-    let density: Vec<f64> = file.fields[0].iter().map(|v| v * v).collect();
-    let orbital = OrbitalDensity {
+    let values = file.fields[0].clone();
+    let orbital = GridOrbital {
         source: "bench".into(),
         label: "bench".into(),
         spin: Spin::Alpha,
         occupation: 1.0,
         geometry: Arc::new(g.clone()),
         nuclei: Arc::from(Vec::new()),
-        density,
+        kind: Kind::Amplitude,
+        values,
     };
     let models = ["lsda", "slater", "xalpha=0.75"].map(|m| Model::from_name(m).expect("model")).to_vec();
+    // Seven models whose exchange and correlation parts are the twelve functionals.
+    let every_functional = ["lsda", "lsda-vwn5", "blyp", "pbe", "pw91-x", "scan", "r2scan"]
+        .map(|m| Model::from_name(m).expect("model"))
+        .to_vec();
     for (label, par) in [("1 thread", Parallelism::Sequential), ("all threads", Parallelism::Rayon)] {
         let engine = Engine::new(models.clone(), EngineParams::default());
         let (setup, solver) = best(1, || engine.solver(&g, par));
@@ -119,6 +126,10 @@ fn main() {
             setup.as_secs_f64()
         );
         println!("{:<52} {:>9.3} s  (J = {:.6} Eh)", format!("J + 3 models per orbital ({label})"), t.as_secs_f64(), report.hartree);
+        let every = Engine::new(every_functional.clone(), EngineParams::default());
+        every.solver(&g, par);
+        let (t, _) = best(3, || every.analyse(&orbital, par).expect("analyse"));
+        println!("{:<52} {:>9.3} s", format!("J + all 12 functionals, gradients incl. ({label})"), t.as_secs_f64());
     }
     if let Some(m) = peak_rss_mib() {
         println!("{:<52} {:>9.0} MiB", "peak resident memory (whole benchmark)", m);

@@ -14,11 +14,12 @@
 //! where `g_i` is the number of spin-orbitals a record stands for (2 for a restricted spatial
 //! orbital). The exact functional has δ_i = 0 for every one-electron density.
 
+use crate::gradient::{GradientParams, gradient_squared};
 use crate::grid::{GridGeometry, Nucleus};
 use crate::par::Parallelism;
 use crate::poisson::{HartreeParams, HartreeSolver};
 use crate::xc::slater::XAlpha;
-use crate::xc::{Functional, Model, XcPoint};
+use crate::xc::{DENSITY_FLOOR, Family, Functional, Model, Part, XcPoint};
 use std::collections::HashMap;
 use std::sync::{Arc, Mutex, OnceLock};
 use thiserror::Error;
@@ -53,9 +54,19 @@ impl Spin {
     }
 }
 
-/// One spin-orbital's density on a grid, ready for analysis.
+/// What the values of a grid orbital are.
+#[derive(Clone, Copy, Debug, PartialEq, Eq, Default)]
+pub enum Kind {
+    /// Orbital amplitudes φ_i, 1/bohr^{3/2}; the density is f_i φ_i².
+    #[default]
+    Amplitude,
+    /// Orbital densities |φ_i|², electrons/bohr³ per unit occupation.
+    Density,
+}
+
+/// One spin-orbital on a grid, ready for analysis.
 #[derive(Clone, Debug)]
-pub struct OrbitalDensity {
+pub struct GridOrbital {
     /// The file it came from, as given.
     pub source: String,
     /// A label unique within the calculation (file stem, plus the orbital index for files that
@@ -69,8 +80,34 @@ pub struct OrbitalDensity {
     pub geometry: Arc<GridGeometry>,
     /// Nuclei listed in the file, bohr.
     pub nuclei: Arc<[Nucleus]>,
-    /// n_i = f_i |φ_i|² at every grid point, electrons/bohr³.
-    pub density: Vec<f64>,
+    /// What `values` are.
+    pub kind: Kind,
+    /// φ_i (amplitudes, 1/bohr^{3/2}) or |φ_i|² (densities, 1/bohr³) at every grid point, as read.
+    pub values: Vec<f64>,
+}
+
+impl GridOrbital {
+    /// n_i = f_i φ_i² (or f_i times the density values) at every grid point, electrons/bohr³.
+    pub fn density(&self) -> Vec<f64> {
+        let f = self.occupation;
+        match self.kind {
+            Kind::Amplitude => self.values.iter().map(|v| f * v * v).collect(),
+            Kind::Density => self.values.iter().map(|v| f * v).collect(),
+        }
+    }
+
+    /// |∇n_i|² at every grid point, electrons²/bohr⁸. From amplitudes as `4f²φ²|∇φ|²`: φ is
+    /// linear through nodal surfaces and decays half as fast as n, so its finite differences are
+    /// far more accurate than those of n itself.
+    pub fn density_gradient_squared(&self, params: &GradientParams, par: Parallelism) -> Vec<f64> {
+        let f = self.occupation;
+        let mut g = gradient_squared(&self.geometry, &self.values, params, par);
+        match self.kind {
+            Kind::Amplitude => g.iter_mut().zip(&self.values).for_each(|(g, v)| *g *= 4.0 * f * f * v * v),
+            Kind::Density => g.iter_mut().for_each(|g| *g *= f * f),
+        }
+        g
+    }
 }
 
 /// One model's self-energies of one orbital, hartree.
@@ -134,6 +171,8 @@ pub enum DiagnosticsError {
 pub struct EngineParams {
     /// Settings of the Coulomb solver.
     pub hartree: HartreeParams,
+    /// Settings of the density gradient (for gradient-corrected and meta-GGA models).
+    pub gradient: GradientParams,
     /// Most Coulomb solvers (one per distinct grid) kept at once; each holds a kernel spectrum
     /// of about 4 bytes per padded grid point.
     pub solver_cache: usize,
@@ -141,7 +180,7 @@ pub struct EngineParams {
 
 impl Default for EngineParams {
     fn default() -> Self {
-        EngineParams { hartree: HartreeParams::default(), solver_cache: 4 }
+        EngineParams { hartree: HartreeParams::default(), gradient: GradientParams::default(), solver_cache: 4 }
     }
 }
 
@@ -192,16 +231,19 @@ impl Engine {
     }
 
     /// Analyses one spin-orbital.
-    pub fn analyse(&self, orbital: &OrbitalDensity, par: Parallelism) -> Result<OrbitalReport, DiagnosticsError> {
+    pub fn analyse(&self, orbital: &GridOrbital, par: Parallelism) -> Result<OrbitalReport, DiagnosticsError> {
         let w = orbital.geometry.voxel_volume();
-        let rho = &orbital.density;
+        let rho = &orbital.density();
         let norm = w * par.chunked_sum(rho.len(), |r| rho[r].iter().sum());
         let hartree = self.solver(&orbital.geometry, par).self_energy(rho, par)?;
 
+        // Gradients only when some model reads them; τ of one orbital follows from them.
+        let needs_gradient = self.models.iter().any(|m| m.family() >= Family::Gga);
+        let grad_sq = needs_gradient.then(|| orbital.density_gradient_squared(&self.params.gradient, par));
         // Each distinct functional is integrated once, however many models share it.
-        let mut cache: HashMap<String, f64> = HashMap::new();
+        let mut cache: HashMap<(Part, String), f64> = HashMap::new();
         let mut energy = |f: &dyn Functional| -> f64 {
-            *cache.entry(f.id()).or_insert_with(|| w * grid_sum(f, rho, par))
+            *cache.entry((f.part(), f.id())).or_insert_with(|| w * grid_sum(f, rho, grad_sq.as_deref(), par))
         };
         let lsda_exchange = energy(&XAlpha::lsda());
         let models = self
@@ -234,9 +276,24 @@ impl Engine {
     }
 }
 
-/// Σ_points e(n_i, 0) for a functional of the density alone (no gradients yet), hartree/bohr³.
-fn grid_sum(f: &dyn Functional, rho: &[f64], par: Parallelism) -> f64 {
-    par.chunked_sum(rho.len(), |r| rho[r].iter().map(|&n| f.energy_density(&XcPoint::polarized(n, 0.0, 0.0))).sum())
+/// Σ_points e(n_i, 0) over the grid, hartree/bohr³, with `grad_sq` = |∇n_i|² where the
+/// functional needs it and τ the von Weizsäcker value |∇n|²/8n of a single real orbital, from the
+/// same gradient so that the iso-orbital indicator of meta-GGAs is exactly zero.
+fn grid_sum(f: &dyn Functional, rho: &[f64], grad_sq: Option<&[f64]>, par: Parallelism) -> f64 {
+    let gradients = grad_sq.filter(|_| f.family() >= Family::Gga);
+    par.chunked_sum(rho.len(), |range| {
+        // One buffer per chunk, one virtual call per chunk; points without density are skipped.
+        let mut points = Vec::with_capacity(range.len());
+        for k in range {
+            let n = rho[k];
+            if n <= DENSITY_FLOOR {
+                continue;
+            }
+            let sigma = gradients.map_or(0.0, |g| g[k]);
+            points.push(XcPoint::polarized(n, sigma, sigma / (8.0 * n)));
+        }
+        f.sum_energy_density(&points)
+    })
 }
 
 fn check_finite(r: &OrbitalReport, models: &[Model]) -> Result<(), DiagnosticsError> {
@@ -304,19 +361,21 @@ mod tests {
     use super::*;
     use std::f64::consts::PI;
 
-    fn gaussian_orbital(spin: Spin, exponent: f64, occupation: f64) -> OrbitalDensity {
+    fn gaussian_orbital(spin: Spin, exponent: f64, occupation: f64) -> GridOrbital {
         let h = 0.25;
         let geometry = GridGeometry::around([[h, 0.0, 0.0], [0.0, h, 0.0], [0.0, 0.0, h]], [0.0; 3], 6.0).unwrap();
-        let norm = occupation * (exponent / PI).powf(1.5);
-        let density = geometry.sample(|r| norm * (-exponent * (r[0] * r[0] + r[1] * r[1] + r[2] * r[2])).exp());
-        OrbitalDensity {
+        // Amplitude of the normalised Gaussian density (a/π)^{3/2} exp(−a r²).
+        let norm = (exponent / PI).powf(0.75);
+        let values = geometry.sample(|r| norm * (-0.5 * exponent * (r[0] * r[0] + r[1] * r[1] + r[2] * r[2])).exp());
+        GridOrbital {
             source: "test".into(),
             label: format!("g{exponent}"),
             spin,
             occupation,
             geometry: Arc::new(geometry),
             nuclei: Arc::from(Vec::new()),
-            density,
+            kind: Kind::Amplitude,
+            values,
         }
     }
 
@@ -381,9 +440,9 @@ mod tests {
     fn overflowing_values_are_reported_not_returned() {
         let e = engine(&["lsda"]);
         let mut o = gaussian_orbital(Spin::Alpha, 1.0, 1.0);
-        o.density[100] = f64::INFINITY;
+        o.values[100] = f64::INFINITY;
         assert!(matches!(e.analyse(&o, Parallelism::Sequential), Err(DiagnosticsError::NonFinite { .. })));
-        o.density.fill(0.0);
+        o.values.fill(0.0);
         assert!(matches!(e.analyse(&o, Parallelism::Sequential), Err(DiagnosticsError::Empty { .. })));
     }
 }

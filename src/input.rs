@@ -1,25 +1,16 @@
 //! From grid files to orbital densities.
 //!
 //! A cube file holds orbital amplitudes φ_i (the default) or orbital densities, one or several
-//! orbitals per file. Here the parsed values become `n_i = f_i φ_i²` (or `f_i ·` value for
-//! densities) on a [`GridGeometry`] in bohr, with a spin and a label.
+//! orbitals per file. Here each becomes a [`GridOrbital`] on a [`GridGeometry`] in bohr, with a
+//! kind, an occupation, a spin and a label.
 
-use crate::diagnostics::{OrbitalDensity, Spin};
+pub use crate::diagnostics::Kind;
+use crate::diagnostics::{GridOrbital, Spin};
 use crate::grid::{BOHR_PER_ANGSTROM, GridError, GridGeometry, Nucleus};
 use sixray_parsers::cube::{self, CubeError, CubeHeader, LengthUnit, ReadParams};
 use std::path::{Path, PathBuf};
 use std::sync::Arc;
 use thiserror::Error;
-
-/// What the values in a grid file are.
-#[derive(Clone, Copy, Debug, PartialEq, Eq, Default)]
-pub enum Kind {
-    /// Orbital amplitudes φ_i, 1/bohr^{3/2}; the density is f_i φ_i².
-    #[default]
-    Amplitude,
-    /// Orbital densities |φ_i|², electrons/bohr³ per unit occupation.
-    Density,
-}
 
 /// How to decide an orbital's spin.
 #[derive(Clone, Copy, Debug, PartialEq, Eq, Default)]
@@ -111,8 +102,8 @@ fn stem(path: &Path) -> String {
     name
 }
 
-/// Reads one grid file: one orbital density per value stored at each point.
-pub fn load_cube(path: &Path, params: &LoadParams) -> Result<Vec<OrbitalDensity>, InputError> {
+/// Reads one grid file: one orbital per value stored at each point.
+pub fn load_cube(path: &Path, params: &LoadParams) -> Result<Vec<GridOrbital>, InputError> {
     let file = cube::read_cube(path, &params.read)?;
     let (geometry, nuclei) =
         geometry_of(&file.header).map_err(|source| InputError::Grid { path: path.to_path_buf(), source })?;
@@ -130,24 +121,21 @@ pub fn load_cube(path: &Path, params: &LoadParams) -> Result<Vec<OrbitalDensity>
         .fields
         .into_iter()
         .enumerate()
-        .map(|(k, mut values)| {
-            match params.kind {
-                Kind::Amplitude => values.iter_mut().for_each(|v| *v = f * *v * *v),
-                Kind::Density => values.iter_mut().for_each(|v| *v *= f),
-            }
+        .map(|(k, values)| {
             let label = match (&ids, several) {
                 (Some(ids), _) => format!("{stem}#{}", ids.get(k).copied().unwrap_or(k as i64 + 1)),
                 (None, true) => format!("{stem}#{}", k + 1),
                 (None, false) => stem.clone(),
             };
-            OrbitalDensity {
+            GridOrbital {
                 source: path.display().to_string(),
                 label,
                 spin,
                 occupation: f,
                 geometry: geometry.clone(),
                 nuclei: nuclei.clone(),
-                density: values,
+                kind: params.kind,
+                values,
             }
         })
         .collect())

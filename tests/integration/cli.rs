@@ -243,3 +243,60 @@ fn models_are_listed_with_references() {
         assert!(text.contains(needle), "{needle}: {text}");
     }
 }
+
+#[test]
+fn every_named_model_is_accepted_and_reported_for_every_orbital() {
+    let dir = tempfile::tempdir().unwrap();
+    let f = samples().join("water/occupied.cube.gz");
+    let names = ["lsda", "lsda-x", "lsda-vwn5", "slater", "xalpha=0.7", "b88", "blyp", "pbe", "pbe-x", "pw91-x", "scan", "scan-x", "r2scan", "r2scan-x"];
+    let mut args = vec!["rank", "-f", "json", f.to_str().unwrap()];
+    for n in names {
+        args.extend(["-m", n]);
+    }
+    let out = sixray(&args, dir.path());
+    assert!(out.status.success(), "{}", stderr(&out));
+    let v = json(&out);
+    let listed: Vec<_> = v["models"].as_array().unwrap().iter().map(|m| m["name"].as_str().unwrap().to_string()).collect();
+    assert_eq!(listed, names);
+    for o in v["orbitals"].as_array().unwrap() {
+        let models = o["models"].as_object().unwrap();
+        assert_eq!(models.keys().collect::<Vec<_>>(), names.iter().collect::<Vec<_>>());
+        for (name, e) in models {
+            for q in ["exchange", "correlation", "self_interaction", "cancellation"] {
+                assert!(e[q].as_f64().is_some_and(f64::is_finite), "{name}.{q} in {o}");
+            }
+            assert!(e["exchange"].as_f64().unwrap() < 0.0, "{name}");
+        }
+        // Models sharing a functional report the same number for it.
+        assert_eq!(models["scan"]["exchange"], models["scan-x"]["exchange"]);
+        assert_eq!(models["b88"]["exchange"], models["blyp"]["exchange"]);
+    }
+}
+
+#[test]
+fn user_defined_models_come_from_a_models_file() {
+    let dir = tempfile::tempdir().unwrap();
+    std::fs::write(
+        dir.path().join("mine.yaml"),
+        "models:\n  - name: xa-vwn\n    exchange: xalpha\n    alpha: 0.7\n    correlation: vwn5\n  - name: b88-pw92\n    exchange: b88\n    correlation: pw92\n",
+    )
+    .unwrap();
+    let f = samples().join("lithium_hydride/orbital_002.cube.gz");
+    let f = f.to_str().unwrap();
+    let out = sixray(&["rank", "-f", "json", "--models-file", "mine.yaml", "-m", "xa-vwn", "-m", "b88-pw92", "-m", "lsda-vwn5", "-m", "blyp", "-m", "xalpha=0.7", f], dir.path());
+    assert!(out.status.success(), "{}", stderr(&out));
+    let m = &json(&out)["orbitals"][0]["models"];
+    // The pairings are made of the same functionals as the built-in models.
+    assert_eq!(m["xa-vwn"]["exchange"], m["xalpha=0.7"]["exchange"]);
+    assert_eq!(m["xa-vwn"]["correlation"], m["lsda-vwn5"]["correlation"]);
+    assert_eq!(m["b88-pw92"]["exchange"], m["blyp"]["exchange"]);
+
+    let listing = stdout(&sixray(&["models", "--models-file", "mine.yaml"], dir.path()));
+    assert!(listing.contains("xa-vwn") && listing.contains("Xα (α = 0.7) exchange + vwn5 correlation"), "{listing}");
+
+    std::fs::write(dir.path().join("bad.yaml"), "models:\n  - name: a\n    exchange: b88\n  - name: b\n    exchange: b89\n").unwrap();
+    let out = sixray(&["rank", "--models-file", "bad.yaml", f], dir.path());
+    assert_eq!(out.status.code(), Some(2));
+    let err = stderr(&out);
+    assert!(err.contains("bad.yaml") && err.contains("unknown exchange functional `b89`") && err.contains("line 4"), "{err}");
+}
