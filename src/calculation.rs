@@ -1,15 +1,30 @@
-//! One calculation: the grid files of one quantum-chemistry run, analysed and ranked.
+//! Running grid files through the engine: one calculation for `rank`, many for `batch`.
 //!
-//! A file that cannot be read or analysed is recorded as a failure and the others go on. Memory
-//! stays bounded: with at least as many files as threads, files run in parallel and each one
-//! sequentially (at most one file's grids per thread); with fewer, files run one after the other
-//! and each uses every thread.
+//! The unit of work is a file (one or several orbitals). A file that cannot be read or analysed
+//! is recorded as a failure and the others go on. Memory stays bounded: with at least as many
+//! files as threads, files run in parallel and each one sequentially (at most one file's grids
+//! per thread); with fewer, files run one after the other and each uses every thread. Results
+//! do not depend on which: every sum has a fixed order.
 
+use crate::cache::{ResultCache, file_digest, settings_fingerprint};
 use crate::diagnostics::{Engine, OrbitalReport, Ranking};
 use crate::grid::GridGeometry;
-use crate::input::{LoadParams, geometry_of, load_cube};
+use crate::input::{LoadParams, geometry_of, load_cube, orbital_labels};
 use crate::par::Parallelism;
+use crate::progress::{Progress, Silent};
+use sixray_parsers::cube::read_cube_header;
 use std::path::PathBuf;
+
+/// A file to analyse, and how.
+#[derive(Clone, Debug, PartialEq)]
+pub struct FileJob {
+    /// Name of the calculation the file belongs to (for progress and reports; may be empty).
+    pub calculation: String,
+    /// The grid file.
+    pub path: PathBuf,
+    /// How to read it.
+    pub load: LoadParams,
+}
 
 /// A file whose orbitals could not be analysed.
 #[derive(Clone, Debug, PartialEq)]
@@ -29,26 +44,121 @@ pub struct Outcome {
     pub failures: Vec<FileFailure>,
 }
 
-/// Analyses every orbital in `files` and ranks them by model `rank_by` of the engine.
-pub fn analyse_files(files: &[PathBuf], load: &LoadParams, engine: &Engine, rank_by: usize) -> Outcome {
-    let per_file = |path: &PathBuf, par: Parallelism| -> Result<Vec<OrbitalReport>, FileFailure> {
-        let fail = |error: String| FileFailure { source: path.display().to_string(), error };
-        let orbitals = load_cube(path, load).map_err(|e| fail(e.to_string()))?;
-        orbitals
-            .iter()
-            .map(|o| engine.analyse(o, par).map_err(|e| fail(format!("{} ({}): {e}", path.display(), o.label))))
-            .collect()
-    };
-    let threads = rayon::current_num_threads();
-    let parallel_files = threads > 1 && files.len() >= threads;
-    if parallel_files {
-        prepare_solvers(files, engine);
+/// The orbitals of one file, from the cache where possible, computed (and cached) otherwise;
+/// `progress` hears when the file starts, and how it ended.
+pub fn analyse_file(
+    job: &FileJob,
+    engine: &Engine,
+    par: Parallelism,
+    cache: Option<&ResultCache>,
+    progress: &dyn Progress,
+) -> Result<Vec<OrbitalReport>, FileFailure> {
+    progress.file_started(job);
+    let result = analyse_file_quietly(job, engine, par, cache, progress);
+    match &result {
+        Ok((reports, cached)) => progress.file_done(job, reports.len(), *cached),
+        Err(f) => progress.file_failed(job, &f.error),
     }
-    let results = if parallel_files {
-        Parallelism::Rayon.map(files.len(), |i| per_file(&files[i], Parallelism::Sequential))
-    } else {
-        files.iter().map(|f| per_file(f, Parallelism::Rayon)).collect()
+    result.map(|(reports, _)| reports)
+}
+
+/// [`analyse_file`] without the start and end events; also returns how many came from the cache.
+fn analyse_file_quietly(
+    job: &FileJob,
+    engine: &Engine,
+    par: Parallelism,
+    cache: Option<&ResultCache>,
+    progress: &dyn Progress,
+) -> Result<(Vec<OrbitalReport>, usize), FileFailure> {
+    let path = &job.path;
+    let fail = |error: String| FileFailure { source: path.display().to_string(), error };
+    let spin = job.load.spin_for(path);
+    // Cache keys need the orbital count (from the header) and the file's digest.
+    let keys = match cache {
+        Some(_) => {
+            let header = read_cube_header(path).map_err(|e| fail(e.to_string()))?;
+            let digest = file_digest(path).map_err(|e| fail(format!("{}: {e}", path.display())))?;
+            let settings = settings_fingerprint(&job.load, spin, engine.models(), engine.params());
+            let labels = orbital_labels(path, &header);
+            let keys: Vec<String> = (0..labels.len()).map(|k| ResultCache::key(&digest, k, &settings)).collect();
+            Some((keys, labels))
+        }
+        None => None,
     };
+    let mut cached: Vec<Option<OrbitalReport>> = match (&keys, cache) {
+        (Some((keys, labels)), Some(cache)) => keys
+            .iter()
+            .zip(labels)
+            .map(|(k, label)| {
+                cache.get(k).map(|mut r| {
+                    // Content-addressed: the same bytes may sit under another name now.
+                    r.source = path.display().to_string();
+                    r.label = label.clone();
+                    r
+                })
+            })
+            .collect(),
+        _ => Vec::new(),
+    };
+    let from_cache = cached.iter().filter(|c| c.is_some()).count();
+    if !cached.is_empty() && from_cache == cached.len() {
+        return Ok((cached.into_iter().flatten().collect(), from_cache));
+    }
+
+    let orbitals = load_cube(path, &job.load).map_err(|e| fail(e.to_string()))?;
+    cached.resize(orbitals.len(), None);
+    let mut reports = Vec::with_capacity(orbitals.len());
+    for (k, (orbital, hit)) in orbitals.iter().zip(cached).enumerate() {
+        let report = match hit {
+            Some(r) => r,
+            None => {
+                let r = engine.analyse(orbital, par).map_err(|e| fail(format!("{} ({}): {e}", path.display(), orbital.label)))?;
+                if let (Some((keys, _)), Some(cache)) = (&keys, cache) {
+                    if let Err(e) = cache.put(&keys[k], &r) {
+                        progress.warning(&format!("could not write a cache entry for {} ({}): {e}", path.display(), orbital.label));
+                    }
+                }
+                r
+            }
+        };
+        reports.push(report);
+    }
+    Ok((reports, from_cache))
+}
+
+/// Runs every job, in parallel where that keeps memory bounded; results in job order.
+pub fn run_files(
+    jobs: &[FileJob],
+    engine: &Engine,
+    cache: Option<&ResultCache>,
+    progress: &dyn Progress,
+) -> Vec<Result<Vec<OrbitalReport>, FileFailure>> {
+    let run = |job: &FileJob, par: Parallelism| analyse_file(job, engine, par, cache, progress);
+    let threads = rayon::current_num_threads();
+    if threads > 1 && jobs.len() >= threads {
+        prepare_solvers(jobs, engine);
+        Parallelism::Rayon.map(jobs.len(), |i| run(&jobs[i], Parallelism::Sequential))
+    } else {
+        jobs.iter().map(|j| run(j, Parallelism::Rayon)).collect()
+    }
+}
+
+/// Orbitals the jobs hold, from their headers (a file whose header cannot be read counts as
+/// one; it will fail later with the full error).
+pub fn count_orbitals(jobs: &[FileJob]) -> usize {
+    jobs.iter().map(|j| read_cube_header(&j.path).map_or(1, |h| h.values_per_point)).sum()
+}
+
+/// Analyses every orbital in `files` as one calculation and ranks them by model `rank_by`.
+pub fn analyse_files(files: &[PathBuf], load: &LoadParams, engine: &Engine, rank_by: usize) -> Outcome {
+    let jobs: Vec<FileJob> =
+        files.iter().map(|p| FileJob { calculation: String::new(), path: p.clone(), load: load.clone() }).collect();
+    let (orbitals, failures) = split(run_files(&jobs, engine, None, &Silent));
+    Outcome { ranking: Ranking::new(orbitals, rank_by), failures }
+}
+
+/// Orbital reports (in job order) and failures of a set of file results.
+pub fn split(results: Vec<Result<Vec<OrbitalReport>, FileFailure>>) -> (Vec<OrbitalReport>, Vec<FileFailure>) {
     let mut orbitals = Vec::new();
     let mut failures = Vec::new();
     for r in results {
@@ -57,16 +167,16 @@ pub fn analyse_files(files: &[PathBuf], load: &LoadParams, engine: &Engine, rank
             Err(f) => failures.push(f),
         }
     }
-    Outcome { ranking: Ranking::new(orbitals, rank_by), failures }
+    (orbitals, failures)
 }
 
 /// Builds the Coulomb solvers of the files' grids up front with every thread, so that files
 /// running in parallel do not wait on one sequential kernel build. Headers that cannot be read
 /// are skipped here; their files fail later with the full error.
-fn prepare_solvers(files: &[PathBuf], engine: &Engine) {
+fn prepare_solvers(jobs: &[FileJob], engine: &Engine) {
     let mut grids: Vec<GridGeometry> = Vec::new();
-    for path in files {
-        let Ok(header) = sixray_parsers::cube::read_cube_header(path) else { continue };
+    for job in jobs {
+        let Ok(header) = read_cube_header(&job.path) else { continue };
         let Ok((g, _)) = geometry_of(&header) else { continue };
         if !grids.iter().any(|k| k.same_lattice(&g)) {
             grids.push(g);

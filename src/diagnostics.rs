@@ -20,12 +20,14 @@ use crate::par::Parallelism;
 use crate::poisson::{HartreeParams, HartreeSolver};
 use crate::xc::slater::XAlpha;
 use crate::xc::{DENSITY_FLOOR, Family, Functional, Model, Part, XcPoint};
+use serde::{Deserialize, Serialize};
 use std::collections::HashMap;
 use std::sync::{Arc, Mutex, OnceLock};
 use thiserror::Error;
 
 /// Which spin-orbitals a grid of orbital values stands for.
-#[derive(Clone, Copy, Debug, PartialEq, Eq, Hash)]
+#[derive(Clone, Copy, Debug, PartialEq, Eq, Hash, Serialize, Deserialize)]
+#[serde(rename_all = "lowercase")]
 pub enum Spin {
     /// A spatial orbital of a closed-shell calculation: two spin-orbitals, one per spin.
     Restricted,
@@ -111,7 +113,7 @@ impl GridOrbital {
 }
 
 /// One model's self-energies of one orbital, hartree.
-#[derive(Clone, Copy, Debug, PartialEq)]
+#[derive(Clone, Copy, Debug, PartialEq, Serialize, Deserialize)]
 pub struct ModelEnergies {
     /// E_x[n_i, 0], hartree.
     pub exchange: f64,
@@ -124,7 +126,7 @@ pub struct ModelEnergies {
 }
 
 /// Everything computed for one spin-orbital.
-#[derive(Clone, Debug, PartialEq)]
+#[derive(Clone, Debug, PartialEq, Serialize, Deserialize)]
 pub struct OrbitalReport {
     /// The file it came from.
     pub source: String,

@@ -102,6 +102,30 @@ fn stem(path: &Path) -> String {
     name
 }
 
+impl LoadParams {
+    /// The spin of the orbitals in `path` under these parameters.
+    pub fn spin_for(&self, path: &Path) -> Spin {
+        match self.spin {
+            SpinRule::FromName => spin_from_name(path),
+            SpinRule::Fixed(s) => s,
+        }
+    }
+}
+
+/// Labels of the orbitals a grid file holds: the file stem, plus `#INDEX` (the file's orbital
+/// index, or the position from 1) when it holds several.
+pub fn orbital_labels(path: &Path, header: &CubeHeader) -> Vec<String> {
+    let stem = stem(path);
+    let count = header.values_per_point;
+    (0..count)
+        .map(|k| match (&header.orbital_ids, count > 1) {
+            (Some(ids), _) => format!("{stem}#{}", ids.get(k).copied().unwrap_or(k as i64 + 1)),
+            (None, true) => format!("{stem}#{}", k + 1),
+            (None, false) => stem.clone(),
+        })
+        .collect()
+}
+
 /// Reads one grid file: one orbital per value stored at each point.
 pub fn load_cube(path: &Path, params: &LoadParams) -> Result<Vec<GridOrbital>, InputError> {
     let file = cube::read_cube(path, &params.read)?;
@@ -109,34 +133,21 @@ pub fn load_cube(path: &Path, params: &LoadParams) -> Result<Vec<GridOrbital>, I
         geometry_of(&file.header).map_err(|source| InputError::Grid { path: path.to_path_buf(), source })?;
     let geometry = Arc::new(geometry);
     let nuclei: Arc<[Nucleus]> = Arc::from(nuclei);
-    let spin = match params.spin {
-        SpinRule::FromName => spin_from_name(path),
-        SpinRule::Fixed(s) => s,
-    };
-    let stem = stem(path);
-    let ids = file.header.orbital_ids.clone();
-    let several = file.fields.len() > 1;
-    let f = params.occupation;
+    let spin = params.spin_for(path);
+    let labels = orbital_labels(path, &file.header);
     Ok(file
         .fields
         .into_iter()
-        .enumerate()
-        .map(|(k, values)| {
-            let label = match (&ids, several) {
-                (Some(ids), _) => format!("{stem}#{}", ids.get(k).copied().unwrap_or(k as i64 + 1)),
-                (None, true) => format!("{stem}#{}", k + 1),
-                (None, false) => stem.clone(),
-            };
-            GridOrbital {
-                source: path.display().to_string(),
-                label,
-                spin,
-                occupation: f,
-                geometry: geometry.clone(),
-                nuclei: nuclei.clone(),
-                kind: params.kind,
-                values,
-            }
+        .zip(labels)
+        .map(|(values, label)| GridOrbital {
+            source: path.display().to_string(),
+            label,
+            spin,
+            occupation: params.occupation,
+            geometry: geometry.clone(),
+            nuclei: nuclei.clone(),
+            kind: params.kind,
+            values,
         })
         .collect())
 }

@@ -9,6 +9,7 @@
 //! - [`calculation`] runs the files of one calculation with failure isolation;
 //! - [`report`] renders results as a table, Markdown, CSV or JSON.
 
+pub mod cache;
 pub mod calculation;
 pub mod diagnostics;
 pub mod gradient;
@@ -16,6 +17,7 @@ pub mod grid;
 pub mod input;
 pub mod par;
 pub mod poisson;
+pub mod progress;
 pub mod quadrature;
 pub mod report;
 pub mod xc;

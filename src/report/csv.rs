@@ -20,13 +20,20 @@ pub const COLUMNS: [&str; 13] = [
 ];
 
 /// A field quoted where RFC 4180 requires it.
-fn field(s: &str) -> String {
+pub fn field(s: &str) -> String {
     if s.contains([',', '"', '\n', '\r']) { format!("\"{}\"", s.replace('"', "\"\"")) } else { s.to_string() }
 }
 
 /// The report as CSV text with a header line.
 pub fn render(report: &Report) -> String {
     let mut out = COLUMNS.join(",") + "\n";
+    rows(report, &[], &mut out);
+    out
+}
+
+/// Appends one line per (shown orbital, model), each starting with the `leading` cells (already
+/// quoted where needed).
+pub fn rows(report: &Report, leading: &[String], out: &mut String) {
     for (i, o) in report.shown().iter().enumerate() {
         for (m, e) in report.models.iter().zip(&o.models) {
             let cells = [
@@ -44,11 +51,11 @@ pub fn render(report: &Report) -> String {
                 e.self_interaction.to_string(),
                 e.cancellation.to_string(),
             ];
-            out += &cells.join(",");
+            let line: Vec<&str> = leading.iter().map(String::as_str).chain(cells.iter().map(String::as_str)).collect();
+            out.push_str(&line.join(","));
             out.push('\n');
         }
     }
-    out
 }
 
 #[cfg(test)]

@@ -11,18 +11,19 @@
 //! ```
 
 use super::Report;
+use crate::calculation::FileFailure;
+use crate::xc::Model;
 use serde_json::{Map, Value, json};
 
-/// The report as a JSON value.
-pub fn to_value(report: &Report) -> Value {
-    let models = report.models;
-    let ranking = &report.outcome.ranking;
-    let orbitals = report
+/// The shown orbitals, ranked, as in the `orbitals` list.
+pub fn orbitals(report: &Report) -> Vec<Value> {
+    report
         .shown()
         .iter()
         .enumerate()
         .map(|(i, o)| {
-            let per_model = models
+            let per_model = report
+                .models
                 .iter()
                 .zip(&o.models)
                 .map(|(m, e)| {
@@ -47,32 +48,68 @@ pub fn to_value(report: &Report) -> Value {
                 "models": per_model,
             })
         })
-        .collect::<Vec<_>>();
-    let totals = models
+        .collect()
+}
+
+/// Per-model totals, keyed by model name.
+pub fn totals(report: &Report) -> Value {
+    let totals = report
+        .models
         .iter()
-        .zip(&ranking.totals)
+        .zip(&report.outcome.ranking.totals)
         .map(|(m, t)| (m.name.clone(), json!({ "perdew_zunger": t.perdew_zunger, "mean_cancellation": t.mean_cancellation })))
         .collect::<Map<_, _>>();
+    Value::Object(totals)
+}
+
+/// The models with their functionals.
+pub fn models(models: &[Model]) -> Vec<Value> {
+    models
+        .iter()
+        .map(|m| {
+            json!({
+                "name": m.name,
+                "exchange": m.exchange.id(),
+                "correlation": m.correlation.as_ref().map(|c| c.id()),
+                "summary": m.summary,
+            })
+        })
+        .collect()
+}
+
+/// Files that failed.
+pub fn failures(failures: &[FileFailure]) -> Vec<Value> {
+    failures.iter().map(|f| json!({"source": f.source, "error": f.error})).collect()
+}
+
+/// What the tool is.
+pub fn tool() -> Value {
+    json!({ "name": "sixray", "version": env!("CARGO_PKG_VERSION") })
+}
+
+/// The report as a JSON value.
+pub fn to_value(report: &Report) -> Value {
+    let ranking = &report.outcome.ranking;
     json!({
-        "tool": { "name": "sixray", "version": env!("CARGO_PKG_VERSION") },
+        "tool": tool(),
         "units": "hartree",
-        "rank_by": models.get(ranking.rank_by).map(|m| m.name.as_str()),
-        "models": models.iter().map(|m| json!({
-            "name": m.name,
-            "exchange": m.exchange.id(),
-            "correlation": m.correlation.as_ref().map(|c| c.id()),
-            "summary": m.summary,
-        })).collect::<Vec<_>>(),
-        "orbitals": orbitals,
-        "totals": totals,
+        "rank_by": report.models.get(ranking.rank_by).map(|m| m.name.as_str()),
+        "models": models(report.models),
+        "orbitals": orbitals(report),
+        "totals": totals(report),
         "spin_orbitals": ranking.spin_orbitals,
-        "failures": report.outcome.failures.iter().map(|f| json!({"source": f.source, "error": f.error})).collect::<Vec<_>>(),
+        "failures": failures(&report.outcome.failures),
     })
+}
+
+/// Pretty-printed JSON text with a final newline.
+pub fn pretty(value: &Value) -> String {
+    let mut s = serde_json::to_string_pretty(value).expect("JSON values always serialise");
+    s.push('\n');
+    s
 }
 
 /// The report as pretty-printed JSON text with a final newline.
 pub fn render(report: &Report) -> String {
-    let mut s = serde_json::to_string_pretty(&to_value(report)).expect("JSON values always serialise");
-    s.push('\n');
-    s
+    pretty(&to_value(report))
 }

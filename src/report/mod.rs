@@ -4,6 +4,7 @@
 //! and use the chosen [`EnergyUnit`]. The JSON layout is documented in the README and kept
 //! stable; see [`json`].
 
+pub mod batch;
 pub mod csv;
 pub mod json;
 pub mod text;
@@ -83,9 +84,14 @@ impl EnergyUnit {
         }
     }
 
-    /// `hartree` converted and printed with this unit's decimals (no symbol).
+    /// `hartree` converted and printed with this unit's decimals (no symbol); values that round
+    /// to zero print without a sign.
     pub fn format(self, hartree: f64) -> String {
-        format!("{:.*}", self.decimals(), hartree * self.per_hartree())
+        let s = format!("{:.*}", self.decimals(), hartree * self.per_hartree());
+        match s.strip_prefix('-') {
+            Some(rest) if rest.bytes().all(|b| b == b'0' || b == b'.') => rest.to_string(),
+            _ => s,
+        }
     }
 }
 
@@ -130,6 +136,12 @@ pub fn write_atomic(path: &Path, bytes: &[u8]) -> std::io::Result<()> {
         _ => Path::new("."),
     };
     let mut tmp = tempfile::Builder::new().prefix(".sixray-").suffix(".tmp").tempfile_in(dir)?;
+    // Temporary files are private; a report is an ordinary file.
+    #[cfg(unix)]
+    {
+        use std::os::unix::fs::PermissionsExt;
+        tmp.as_file().set_permissions(std::fs::Permissions::from_mode(0o644))?;
+    }
     tmp.write_all(bytes)?;
     tmp.as_file().sync_all()?;
     tmp.persist(path).map_err(|e| e.error)?;
@@ -147,6 +159,7 @@ mod tests {
         assert_eq!("EV".parse::<EnergyUnit>(), Ok(EnergyUnit::ElectronVolt));
         assert!("joule".parse::<EnergyUnit>().unwrap_err().contains("millihartree"));
         assert_eq!(EnergyUnit::Millihartree.format(-0.0123456), "-12.346");
+        assert_eq!(EnergyUnit::Millihartree.format(-1e-9), "0.000");
     }
 
     #[test]

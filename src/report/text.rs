@@ -6,15 +6,15 @@
 use super::{EnergyUnit, Report};
 use crate::diagnostics::OrbitalReport;
 
-/// A table of text cells with per-column alignment.
-struct Table {
+/// A table of text cells with per-column alignment (true: right-aligned).
+pub(crate) struct Table {
     header: Vec<String>,
     right: Vec<bool>,
-    rows: Vec<Vec<String>>,
+    pub(crate) rows: Vec<Vec<String>>,
 }
 
 impl Table {
-    fn new(columns: &[(&str, bool)]) -> Self {
+    pub(crate) fn new(columns: &[(&str, bool)]) -> Self {
         Table {
             header: columns.iter().map(|c| c.0.to_string()).collect(),
             right: columns.iter().map(|c| c.1).collect(),
@@ -22,7 +22,7 @@ impl Table {
         }
     }
 
-    fn push(&mut self, header: String, right: bool) {
+    pub(crate) fn push(&mut self, header: String, right: bool) {
         self.header.push(header);
         self.right.push(right);
     }
@@ -50,7 +50,7 @@ impl Table {
     }
 
     /// Columns separated by two spaces, the header underlined.
-    fn plain(&self, indent: &str) -> String {
+    pub(crate) fn plain(&self, indent: &str) -> String {
         let widths = self.widths();
         let mut out = format!("{indent}{}\n", self.line(&self.header, &widths, "  ").trim_end());
         let rule = widths.iter().map(|&w| "─".repeat(w)).collect::<Vec<_>>().join("  ");
@@ -61,7 +61,7 @@ impl Table {
         out
     }
 
-    fn markdown(&self) -> String {
+    pub(crate) fn markdown(&self) -> String {
         let escape = |s: &String| s.replace('|', "\\|");
         let cells = |r: &[String]| format!("| {} |\n", r.iter().map(escape).collect::<Vec<_>>().join(" | "));
         let rule = self.right.iter().map(|&r| if r { "---:" } else { ":---" }).collect::<Vec<_>>();
@@ -161,8 +161,8 @@ pub fn render_table(report: &Report, unit: EnergyUnit) -> String {
     out
 }
 
-/// The Markdown document.
-pub fn render_markdown(report: &Report, unit: EnergyUnit) -> String {
+/// Markdown table of the shown orbitals with every energy of every model.
+pub fn markdown_orbitals(report: &Report, unit: EnergyUnit) -> String {
     let mut t = orbital_table(unit);
     for m in report.models {
         for q in ["E_x", "E_c", "δ", "−E_x/J"] {
@@ -177,14 +177,27 @@ pub fn render_markdown(report: &Report, unit: EnergyUnit) -> String {
         }
         t.rows.push(row);
     }
-    let mut out = format!("# Self-interaction ranking\n\n{}.\n\n{}", caption(report, unit), t.markdown());
+    t.markdown()
+}
+
+/// Markdown table of the per-model totals.
+pub fn markdown_totals(report: &Report, unit: EnergyUnit) -> String {
+    totals_table(report, unit).markdown()
+}
+
+/// Markdown list of failed files (empty when none failed).
+pub fn markdown_failures(failures: &[crate::calculation::FileFailure]) -> String {
+    failures.iter().map(|f| format!("- `{}`: {}\n", f.source, f.error.replace('\n', " "))).collect()
+}
+
+/// The Markdown document.
+pub fn render_markdown(report: &Report, unit: EnergyUnit) -> String {
+    let mut out = format!("# Self-interaction ranking\n\n{}.\n\n{}", caption(report, unit), markdown_orbitals(report, unit));
     out += "\n## Per model\n\n";
-    out += &totals_table(report, unit).markdown();
+    out += &markdown_totals(report, unit);
     if !report.outcome.failures.is_empty() {
         out += "\n## Files that could not be analysed\n\n";
-        for f in &report.outcome.failures {
-            out += &format!("- `{}`: {}\n", f.source, f.error.replace('\n', " "));
-        }
+        out += &markdown_failures(&report.outcome.failures);
     }
     out
 }
