@@ -9,6 +9,7 @@
 //! - [`calculation`] runs the files of one calculation with failure isolation;
 //! - [`report`] renders results as a table, Markdown, CSV or JSON.
 
+pub mod batch;
 pub mod cache;
 pub mod calculation;
 pub mod diagnostics;

@@ -1,5 +1,7 @@
 //! Command-line arguments and their wiring to the library. No physics here.
 
+mod batch;
+mod progress;
 mod rank;
 
 use clap::{Parser, Subcommand};
@@ -22,6 +24,8 @@ pub struct Cli {
 enum Command {
     /// Rank the occupied spin-orbitals of one calculation by self-interaction error.
     Rank(rank::RankArgs),
+    /// Run a workflow: every calculation of a test set, with set-wide reports.
+    Batch(batch::BatchArgs),
     /// List the exchange-correlation models and functionals.
     Models(ModelsArgs),
 }
@@ -38,29 +42,34 @@ struct ModelsArgs {
 pub enum Status {
     /// Everything asked for was computed.
     Success,
-    /// Bad arguments or input that could not be read (results of the rest are still written).
+    /// Some calculations of a batch failed; the results of the rest were written.
+    Partial,
+    /// Bad arguments, an invalid workflow, or input that could not be read (results of the rest
+    /// are still written).
     BadInput,
+    /// An orbital's self-interaction error exceeded `--fail-above`.
+    AboveThreshold,
 }
 
 impl From<Status> for std::process::ExitCode {
     fn from(s: Status) -> Self {
         match s {
             Status::Success => 0.into(),
+            Status::Partial => 1.into(),
             Status::BadInput => 2.into(),
+            Status::AboveThreshold => 3.into(),
         }
     }
 }
 
 /// Runs a parsed command line.
 pub fn run(cli: Cli) -> anyhow::Result<Status> {
-    let mut pool = rayon::ThreadPoolBuilder::new();
-    if let Some(n) = cli.threads {
-        anyhow::ensure!(n > 0, "--threads must be at least 1");
-        pool = pool.num_threads(n);
+    if cli.threads == Some(0) {
+        anyhow::bail!("--threads must be at least 1");
     }
-    let pool = pool.build()?;
-    pool.install(|| match cli.command {
-        Command::Rank(args) => rank::run(args),
+    match cli.command {
+        Command::Rank(args) => in_pool(cli.threads, || rank::run(args)),
+        Command::Batch(args) => batch::run_batch(args, cli.threads),
         Command::Models(args) => {
             let library = match &args.models_file {
                 Some(path) => ModelLibrary::builtin().with_file(path)?,
@@ -69,7 +78,16 @@ pub fn run(cli: Cli) -> anyhow::Result<Status> {
             print!("{}", models_listing(&library));
             Ok(Status::Success)
         }
-    })
+    }
+}
+
+/// Runs `f` in a thread pool of `threads` workers (all cores if `None`).
+fn in_pool<T: Send>(threads: Option<usize>, f: impl FnOnce() -> anyhow::Result<T> + Send) -> anyhow::Result<T> {
+    let mut pool = rayon::ThreadPoolBuilder::new();
+    if let Some(n) = threads {
+        pool = pool.num_threads(n);
+    }
+    pool.build()?.install(f)
 }
 
 fn models_listing(library: &ModelLibrary) -> String {

@@ -58,6 +58,11 @@ pub struct RankArgs {
     /// Write the report to FILE (atomically) instead of standard output.
     #[arg(short, long, value_name = "FILE")]
     output: Option<PathBuf>,
+
+    /// Exit with status 3 (after writing the report) if any orbital's |δ| under the --rank-by
+    /// model exceeds THRESHOLD, given in --units (millihartree by default).
+    #[arg(long, value_name = "THRESHOLD")]
+    fail_above: Option<f64>,
 }
 
 #[derive(Clone, Copy, Debug, ValueEnum)]
@@ -108,6 +113,9 @@ pub fn run(args: RankArgs) -> anyhow::Result<Status> {
             }
         }
     };
+    if args.fail_above.is_some_and(|t| !(t.is_finite() && t >= 0.0)) {
+        bail!("--fail-above must be a non-negative number");
+    }
     if !(args.occupation > 0.0 && args.occupation <= 1.0) {
         bail!("--occupation must be in (0, 1], got {}", args.occupation);
     }
@@ -142,5 +150,24 @@ pub fn run(args: RankArgs) -> anyhow::Result<Status> {
         Some(path) => report::write_atomic(path, text.as_bytes()).with_context(|| format!("writing {}", path.display()))?,
         None => print!("{text}"),
     }
-    Ok(if outcome.failures.is_empty() { Status::Success } else { Status::BadInput })
+    if !outcome.failures.is_empty() {
+        return Ok(Status::BadInput);
+    }
+    if let Some(limit) = args.fail_above {
+        let model = &engine.models()[rank_by];
+        let over: Vec<_> = outcome
+            .ranking
+            .orbitals
+            .iter()
+            .filter(|o| o.models[rank_by].self_interaction.abs() * args.units.per_hartree() > limit)
+            .collect();
+        if !over.is_empty() {
+            eprintln!("sixray: {} orbital(s) with |δ| above {limit} {} under {}:", over.len(), args.units.symbol(), model.name);
+            for o in over {
+                eprintln!("  {} ({}): δ = {} {}", o.label, o.source, args.units.format(o.models[rank_by].self_interaction), args.units.symbol());
+            }
+            return Ok(Status::AboveThreshold);
+        }
+    }
+    Ok(Status::Success)
 }

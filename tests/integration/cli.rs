@@ -300,3 +300,29 @@ fn user_defined_models_come_from_a_models_file() {
     let err = stderr(&out);
     assert!(err.contains("bad.yaml") && err.contains("unknown exchange functional `b89`") && err.contains("line 4"), "{err}");
 }
+
+#[test]
+fn fail_above_gates_a_pipeline_with_status_three() {
+    let dir = tempfile::tempdir().unwrap();
+    let files: Vec<String> = std::fs::read_dir(samples().join("hydroxyl_radical"))
+        .unwrap()
+        .map(|e| e.unwrap().path().display().to_string())
+        .collect();
+    let run = |threshold: &str, units: &str| {
+        let mut args = vec!["rank", "-f", "json", "--fail-above", threshold, "--units", units];
+        args.extend(files.iter().map(String::as_str));
+        sixray(&args, dir.path())
+    };
+    let all = json(&run("1e9", "hartree"));
+    let worst = all["orbitals"][0]["models"]["lsda"]["self_interaction"].as_f64().unwrap().abs();
+    // Just above the worst |δ|: success; just below: status 3, the offenders on stderr, the
+    // report still on stdout.
+    let ok = run(&format!("{}", worst * 1e3 * 1.0001), "millihartree");
+    assert_eq!(ok.status.code(), Some(0), "{}", stderr(&ok));
+    let over = run(&format!("{}", worst * 0.9999), "hartree");
+    assert_eq!(over.status.code(), Some(3));
+    assert_eq!(json(&over)["orbitals"].as_array().unwrap().len(), 9);
+    let err = stderr(&over);
+    assert!(err.contains("1 orbital(s) with |δ| above") && err.contains(all["orbitals"][0]["label"].as_str().unwrap()), "{err}");
+    assert_eq!(run("-1", "hartree").status.code(), Some(2));
+}

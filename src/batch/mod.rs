@@ -1,0 +1,82 @@
+//! The batch runner: every calculation of a workflow, ranked, with set-wide reports.
+//!
+//! All files of all calculations are scheduled together (see [`crate::calculation`] for the
+//! bounded-memory strategy). A file that fails fails its calculation; every other calculation
+//! completes. Finished orbitals go to a content-addressed cache in the report directory as they
+//! finish, so an interrupted run resumes where it stopped and gives the same reports.
+
+pub mod summary;
+pub mod workflow;
+
+use crate::cache::ResultCache;
+use crate::calculation::{FileJob, Outcome, run_files, split};
+use crate::diagnostics::{Engine, EngineParams, Ranking};
+use crate::progress::Progress;
+pub use workflow::{ReportFormat, Workflow, WorkflowError};
+
+/// How a batch runs.
+#[derive(Clone, Debug, Default, PartialEq)]
+pub struct BatchParams {
+    /// Recompute everything, ignoring cached results (fresh results still refresh the cache).
+    pub fresh: bool,
+    /// Engine settings.
+    pub engine: EngineParams,
+}
+
+/// One calculation's results.
+#[derive(Clone, Debug, PartialEq)]
+pub struct CalculationResult {
+    /// The user's label.
+    pub name: String,
+    /// The user's tags.
+    pub tags: Vec<String>,
+    /// Its orbitals, ranked, with totals (incomplete if a file failed), and its failed files; the
+    /// calculation has failed if there are any.
+    pub outcome: Outcome,
+}
+
+impl CalculationResult {
+    /// True when every file was analysed.
+    pub fn is_ok(&self) -> bool {
+        self.outcome.failures.is_empty()
+    }
+}
+
+/// Directory of the result cache inside a report directory.
+pub const CACHE_DIR: &str = ".sixray-cache";
+
+/// Runs every calculation of `workflow`.
+pub fn run(workflow: &Workflow, params: &BatchParams, progress: &dyn Progress) -> Vec<CalculationResult> {
+    let engine = Engine::new(workflow.models.clone(), params.engine.clone());
+    let cache = if workflow.cache {
+        match ResultCache::open(&workflow.report.dir.join(CACHE_DIR), !params.fresh) {
+            Ok(c) => Some(c),
+            Err(e) => {
+                progress.warning(&format!("running without a result cache: {}: {e}", workflow.report.dir.display()));
+                None
+            }
+        }
+    } else {
+        None
+    };
+    let jobs = jobs(workflow);
+    let mut results = run_files(&jobs, &engine, cache.as_ref(), progress).into_iter();
+    workflow
+        .calculations
+        .iter()
+        .map(|c| {
+            let (orbitals, failures) = split(results.by_ref().take(c.files.len()).collect());
+            let ranking = Ranking::new(orbitals, workflow.rank_by);
+            CalculationResult { name: c.name.clone(), tags: c.tags.clone(), outcome: Outcome { ranking, failures } }
+        })
+        .collect()
+}
+
+/// Every file of the workflow as a job, calculation by calculation.
+pub fn jobs(workflow: &Workflow) -> Vec<FileJob> {
+    workflow
+        .calculations
+        .iter()
+        .flat_map(|c| c.files.iter().map(|f| FileJob { calculation: c.name.clone(), path: f.clone(), load: c.load.clone() }))
+        .collect()
+}

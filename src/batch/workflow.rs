@@ -1,0 +1,495 @@
+//! Workflow files: a test set, the models and the reports, in YAML (a schema of our own).
+//!
+//! ```yaml
+//! calculations:                      # the test set
+//!   - name: water                    # unique label
+//!     files: [water/*.cube.gz]       # paths or glob patterns, relative to this file
+//!     kind: amplitude                # optional: amplitude (default) | density
+//!     spin: from-name                # optional: from-name (default) | restricted | alpha | beta
+//!     occupation: 1.0                # optional: electrons per spin-orbital, 0 < f ≤ 1
+//!     tags: [neutral]                # optional
+//! models: [lsda, blyp, xalpha=0.75]  # named models, xalpha=VALUE, or custom ones below
+//! custom_models:                     # optional, as in a models file
+//!   - {name: xa-vwn, exchange: xalpha, alpha: 0.7, correlation: vwn5}
+//! report:                            # optional
+//!   dir: out                         # relative to this file unless absolute (default: report)
+//!   formats: [markdown, csv, json]   # default: all three
+//!   units: millihartree              # for the Markdown tables
+//!   worst: 20                        # worst orbitals listed across the set
+//! options:                           # optional
+//!   threads: 2                       # default: all cores
+//!   rank_by: lsda                    # default: the first model
+//!   cache: true                      # reuse finished orbitals from earlier runs
+//! ```
+//!
+//! The whole file is checked before anything runs. Checks that need more than the value itself
+//! (a pattern must match files, a model name must be known, names must be unique) run while the
+//! value is deserialised, so that every error carries the YAML line and column.
+
+use crate::diagnostics::Spin;
+use crate::input::{Kind, LoadParams, SpinRule};
+use crate::report::EnergyUnit;
+use crate::xc::model::{CustomModel, ModelLibrary};
+use crate::xc::Model;
+use serde::de::Error as _;
+use serde::{Deserialize, Deserializer};
+use std::cell::RefCell;
+use std::path::{Path, PathBuf};
+use thiserror::Error;
+
+/// A workflow file that cannot be used; nothing has run.
+#[derive(Debug, Error)]
+#[error("{}: {message}", path.display())]
+pub struct WorkflowError {
+    /// The workflow file.
+    pub path: PathBuf,
+    /// What is wrong, with the YAML line and column where known.
+    pub message: String,
+}
+
+/// Report files a batch can write.
+#[derive(Clone, Copy, Debug, PartialEq, Eq, Deserialize)]
+#[serde(rename_all = "lowercase")]
+pub enum ReportFormat {
+    /// `report.md`.
+    Markdown,
+    /// `orbitals.csv`.
+    Csv,
+    /// `report.json`.
+    Json,
+}
+
+/// One calculation of the test set, resolved.
+#[derive(Clone, Debug, PartialEq)]
+pub struct CalculationPlan {
+    /// The user's label.
+    pub name: String,
+    /// The user's tags.
+    pub tags: Vec<String>,
+    /// How its files are read.
+    pub load: LoadParams,
+    /// Its grid files, in pattern order, each pattern's matches sorted.
+    pub files: Vec<PathBuf>,
+}
+
+/// Where and how reports are written.
+#[derive(Clone, Debug, PartialEq)]
+pub struct ReportSettings {
+    /// Output directory (resolved against the workflow file's directory).
+    pub dir: PathBuf,
+    /// Which reports.
+    pub formats: Vec<ReportFormat>,
+    /// Energy unit of the human-readable tables.
+    pub units: EnergyUnit,
+    /// Worst orbitals listed across the set.
+    pub worst: usize,
+}
+
+/// A checked workflow, ready to run.
+#[derive(Clone, Debug)]
+pub struct Workflow {
+    /// The workflow file.
+    pub path: PathBuf,
+    /// The test set.
+    pub calculations: Vec<CalculationPlan>,
+    /// The models, in report order.
+    pub models: Vec<Model>,
+    /// Index of the model that orders rankings.
+    pub rank_by: usize,
+    /// Reports.
+    pub report: ReportSettings,
+    /// Worker threads, if set.
+    pub threads: Option<usize>,
+    /// Whether finished orbitals are cached and reused.
+    pub cache: bool,
+}
+
+/// What the custom deserialisers need to know: where relative paths start, which models exist.
+struct Context {
+    base: PathBuf,
+    library: ModelLibrary,
+}
+
+thread_local! {
+    static CONTEXT: RefCell<Option<Context>> = const { RefCell::new(None) };
+}
+
+fn with_context<T>(f: impl FnOnce(&Context) -> T) -> T {
+    CONTEXT.with(|c| f(c.borrow().as_ref().expect("workflow context is set while deserialising")))
+}
+
+/// A list whose items carry a name that must be unique.
+trait Named {
+    fn name(&self) -> &str;
+}
+
+/// A non-empty list of named items, with a repeated name reported at the repeat (inside the
+/// sequence, so that the error carries its position).
+fn unique<'de, D: Deserializer<'de>, T: Deserialize<'de> + Named>(d: D, what: &'static str) -> Result<Vec<T>, D::Error> {
+    struct Unique<T>(&'static str, std::marker::PhantomData<T>);
+    impl<'de, T: Deserialize<'de> + Named> serde::de::Visitor<'de> for Unique<T> {
+        type Value = Vec<T>;
+        fn expecting(&self, f: &mut std::fmt::Formatter) -> std::fmt::Result {
+            write!(f, "a list of {}s", self.0)
+        }
+        fn visit_seq<A: serde::de::SeqAccess<'de>>(self, mut seq: A) -> Result<Vec<T>, A::Error> {
+            let mut items: Vec<T> = Vec::new();
+            while let Some(item) = seq.next_element::<T>()? {
+                if items.iter().any(|b| b.name() == item.name()) {
+                    return Err(A::Error::custom(format!("{} `{}` is listed twice", self.0, item.name())));
+                }
+                items.push(item);
+            }
+            if items.is_empty() {
+                return Err(A::Error::custom(format!("the list of {}s is empty", self.0)));
+            }
+            Ok(items)
+        }
+    }
+    d.deserialize_seq(Unique(what, std::marker::PhantomData))
+}
+
+/// Files matched by one pattern, relative to the workflow file.
+#[derive(Clone, Debug)]
+struct Pattern(Vec<PathBuf>);
+
+impl<'de> Deserialize<'de> for Pattern {
+    fn deserialize<D: Deserializer<'de>>(d: D) -> Result<Self, D::Error> {
+        let text = String::deserialize(d)?;
+        let full = with_context(|c| c.base.join(&text));
+        let pattern = full.to_string_lossy().into_owned();
+        let paths = glob::glob(&pattern).map_err(|e| D::Error::custom(format!("bad file pattern `{text}`: {e}")))?;
+        let mut files: Vec<PathBuf> = paths.filter_map(Result::ok).filter(|p| p.is_file()).collect();
+        files.sort();
+        if files.is_empty() {
+            return Err(D::Error::custom(format!("file pattern `{text}` matches no file (looked for {pattern})")));
+        }
+        Ok(Pattern(files))
+    }
+}
+
+/// A model name that resolves (built-in, `xalpha=VALUE`, or one of `custom_models`).
+#[derive(Clone, Debug)]
+struct ModelName(Model);
+
+impl<'de> Deserialize<'de> for ModelName {
+    fn deserialize<D: Deserializer<'de>>(d: D) -> Result<Self, D::Error> {
+        let name = String::deserialize(d)?;
+        with_context(|c| c.library.resolve(&name)).map(ModelName).map_err(D::Error::custom)
+    }
+}
+
+impl Named for ModelName {
+    fn name(&self) -> &str {
+        &self.0.name
+    }
+}
+
+#[derive(Clone, Copy, Debug, Default, Deserialize)]
+#[serde(rename_all = "lowercase")]
+enum KindSpec {
+    #[default]
+    Amplitude,
+    Density,
+}
+
+#[derive(Clone, Copy, Debug, Default, Deserialize)]
+#[serde(rename_all = "kebab-case")]
+enum SpinSpec {
+    #[default]
+    FromName,
+    Restricted,
+    Alpha,
+    Beta,
+}
+
+/// An occupation in (0, 1].
+#[derive(Clone, Copy, Debug)]
+struct Occupation(f64);
+
+impl<'de> Deserialize<'de> for Occupation {
+    fn deserialize<D: Deserializer<'de>>(d: D) -> Result<Self, D::Error> {
+        let f = f64::deserialize(d)?;
+        if f > 0.0 && f <= 1.0 { Ok(Occupation(f)) } else { Err(D::Error::custom(format!("occupation must be in (0, 1], got {f}"))) }
+    }
+}
+
+#[derive(Deserialize)]
+#[serde(deny_unknown_fields)]
+struct CalculationSpec {
+    name: CalculationName,
+    files: Vec<Pattern>,
+    #[serde(default)]
+    kind: KindSpec,
+    #[serde(default)]
+    spin: SpinSpec,
+    #[serde(default)]
+    occupation: Option<Occupation>,
+    #[serde(default)]
+    tags: Vec<String>,
+}
+
+impl Named for CalculationSpec {
+    fn name(&self) -> &str {
+        &self.name.0
+    }
+}
+
+fn calculations<'de, D: Deserializer<'de>>(d: D) -> Result<Vec<CalculationSpec>, D::Error> {
+    unique(d, "calculation")
+}
+
+fn models<'de, D: Deserializer<'de>>(d: D) -> Result<Vec<ModelName>, D::Error> {
+    unique(d, "model")
+}
+
+/// A calculation name: not empty.
+struct CalculationName(String);
+
+impl<'de> Deserialize<'de> for CalculationName {
+    fn deserialize<D: Deserializer<'de>>(d: D) -> Result<Self, D::Error> {
+        let name = String::deserialize(d)?;
+        if name.trim().is_empty() { Err(D::Error::custom("a calculation needs a non-empty name")) } else { Ok(CalculationName(name)) }
+    }
+}
+
+/// An energy unit by its name.
+struct Units(EnergyUnit);
+
+impl<'de> Deserialize<'de> for Units {
+    fn deserialize<D: Deserializer<'de>>(d: D) -> Result<Self, D::Error> {
+        String::deserialize(d)?.parse().map(Units).map_err(D::Error::custom)
+    }
+}
+
+#[derive(Deserialize)]
+#[serde(deny_unknown_fields)]
+struct ReportSpec {
+    #[serde(default = "default_dir")]
+    dir: PathBuf,
+    #[serde(default = "default_formats")]
+    formats: Vec<ReportFormat>,
+    #[serde(default)]
+    units: Option<Units>,
+    #[serde(default = "default_worst")]
+    worst: usize,
+}
+
+fn default_dir() -> PathBuf {
+    PathBuf::from("report")
+}
+fn default_formats() -> Vec<ReportFormat> {
+    vec![ReportFormat::Markdown, ReportFormat::Csv, ReportFormat::Json]
+}
+fn default_worst() -> usize {
+    20
+}
+
+impl Default for ReportSpec {
+    fn default() -> Self {
+        ReportSpec { dir: default_dir(), formats: default_formats(), units: None, worst: default_worst() }
+    }
+}
+
+/// A positive thread count.
+struct Threads(usize);
+
+impl<'de> Deserialize<'de> for Threads {
+    fn deserialize<D: Deserializer<'de>>(d: D) -> Result<Self, D::Error> {
+        match usize::deserialize(d)? {
+            0 => Err(D::Error::custom("threads must be at least 1")),
+            n => Ok(Threads(n)),
+        }
+    }
+}
+
+#[derive(Deserialize)]
+#[serde(deny_unknown_fields)]
+struct OptionsSpec {
+    #[serde(default)]
+    threads: Option<Threads>,
+    #[serde(default)]
+    rank_by: Option<ModelName>,
+    #[serde(default = "yes")]
+    cache: bool,
+}
+
+fn yes() -> bool {
+    true
+}
+
+impl Default for OptionsSpec {
+    fn default() -> Self {
+        OptionsSpec { threads: None, rank_by: None, cache: true }
+    }
+}
+
+#[derive(Deserialize)]
+#[serde(deny_unknown_fields)]
+struct WorkflowFile {
+    #[serde(deserialize_with = "calculations")]
+    calculations: Vec<CalculationSpec>,
+    #[serde(deserialize_with = "models")]
+    models: Vec<ModelName>,
+    #[serde(default)]
+    #[allow(dead_code)] // read in the first pass
+    custom_models: Vec<CustomModel>,
+    #[serde(default)]
+    report: ReportSpec,
+    #[serde(default)]
+    options: OptionsSpec,
+}
+
+/// First pass: only the user's models, which the model names elsewhere may refer to.
+#[derive(Deserialize)]
+struct CustomModelsOnly {
+    #[serde(default)]
+    custom_models: Vec<CustomModel>,
+}
+
+impl Workflow {
+    /// Reads and checks a workflow file.
+    pub fn load(path: &Path) -> Result<Workflow, WorkflowError> {
+        let fail = |message: String| WorkflowError { path: path.to_path_buf(), message };
+        let text = std::fs::read_to_string(path).map_err(|e| fail(e.to_string()))?;
+        let base = path.parent().map(Path::to_path_buf).unwrap_or_default();
+        let custom: CustomModelsOnly = serde_yaml::from_str(&text).map_err(|e| fail(e.to_string()))?;
+        let library = ModelLibrary::builtin()
+            .with_custom(custom.custom_models.into_iter().map(|c| c.0).collect())
+            .map_err(|e| fail(format!("custom_models: {e}")))?;
+        CONTEXT.with(|c| *c.borrow_mut() = Some(Context { base: base.clone(), library }));
+        let parsed: Result<WorkflowFile, _> = serde_yaml::from_str(&text);
+        CONTEXT.with(|c| *c.borrow_mut() = None);
+        let file = parsed.map_err(|e| fail(e.to_string()))?;
+
+        let mut models: Vec<Model> = file.models.into_iter().map(|m| m.0).collect();
+        let rank_by = match file.options.rank_by {
+            None => 0,
+            Some(ModelName(m)) => match models.iter().position(|k| k.name == m.name) {
+                Some(i) => i,
+                None => {
+                    models.push(m);
+                    models.len() - 1
+                }
+            },
+        };
+        let calculations = file
+            .calculations
+            .into_iter()
+            .map(|c| {
+                let mut files: Vec<PathBuf> = Vec::new();
+                for p in c.files.into_iter().flat_map(|p| p.0) {
+                    if !files.contains(&p) {
+                        files.push(p);
+                    }
+                }
+                let spin = match c.spin {
+                    SpinSpec::FromName => SpinRule::FromName,
+                    SpinSpec::Restricted => SpinRule::Fixed(Spin::Restricted),
+                    SpinSpec::Alpha => SpinRule::Fixed(Spin::Alpha),
+                    SpinSpec::Beta => SpinRule::Fixed(Spin::Beta),
+                };
+                let kind = match c.kind {
+                    KindSpec::Amplitude => Kind::Amplitude,
+                    KindSpec::Density => Kind::Density,
+                };
+                let occupation = c.occupation.map_or(1.0, |o| o.0);
+                CalculationPlan {
+                    name: c.name.0,
+                    tags: c.tags,
+                    load: LoadParams { kind, spin, occupation, ..LoadParams::default() },
+                    files,
+                }
+            })
+            .collect();
+        let report = ReportSettings {
+            dir: base.join(&file.report.dir),
+            formats: file.report.formats,
+            units: file.report.units.map_or(EnergyUnit::default(), |u| u.0),
+            worst: file.report.worst,
+        };
+        Ok(Workflow {
+            path: path.to_path_buf(),
+            calculations,
+            models,
+            rank_by,
+            report,
+            threads: file.options.threads.map(|t| t.0),
+            cache: file.options.cache,
+        })
+    }
+}
+
+#[cfg(test)]
+mod tests {
+    use super::*;
+
+    fn setup(yaml: &str) -> (tempfile::TempDir, Result<Workflow, WorkflowError>) {
+        let dir = tempfile::tempdir().unwrap();
+        for f in ["a/orbital_001.cube", "a/orbital_002.cube", "b/orbital_alpha_001.cube"] {
+            let p = dir.path().join(f);
+            std::fs::create_dir_all(p.parent().unwrap()).unwrap();
+            std::fs::write(p, "").unwrap();
+        }
+        let wf = dir.path().join("set.yaml");
+        std::fs::write(&wf, yaml).unwrap();
+        let r = Workflow::load(&wf);
+        (dir, r)
+    }
+
+    #[test]
+    fn minimal_workflow_gets_defaults_and_resolved_paths() {
+        let (dir, w) = setup("calculations:\n  - name: a\n    files: [a/*.cube, a/orbital_001.cube]\nmodels: [pbe]\n");
+        let w = w.unwrap();
+        assert_eq!(w.calculations.len(), 1);
+        let c = &w.calculations[0];
+        // Each file once, in pattern order.
+        assert_eq!(c.files, vec![dir.path().join("a/orbital_001.cube"), dir.path().join("a/orbital_002.cube")]);
+        assert_eq!(c.load.kind, Kind::Amplitude);
+        assert_eq!(c.load.spin, SpinRule::FromName);
+        assert_eq!(w.report.dir, dir.path().join("report"));
+        assert_eq!(w.report.formats.len(), 3);
+        assert_eq!((w.report.units, w.report.worst, w.cache, w.threads), (EnergyUnit::Millihartree, 20, true, None));
+        assert_eq!((w.models.len(), w.rank_by), (1, 0));
+    }
+
+    #[test]
+    fn full_workflow_with_custom_models_declared_after_use() {
+        let yaml = "calculations:\n  - name: radical\n    files: [b/*.cube]\n    kind: density\n    spin: alpha\n    occupation: 0.5\n    tags: [open-shell]\nmodels: [mine, xalpha=0.8]\nreport:\n  dir: /tmp/elsewhere\n  formats: [json]\n  units: ev\n  worst: 3\noptions:\n  threads: 2\n  rank_by: scan\n  cache: false\ncustom_models:\n  - {name: mine, exchange: b88, correlation: pw92}\n";
+        let (_dir, w) = setup(yaml);
+        let w = w.unwrap();
+        let c = &w.calculations[0];
+        assert_eq!((c.load.kind, c.load.spin, c.load.occupation), (Kind::Density, SpinRule::Fixed(Spin::Alpha), 0.5));
+        assert_eq!(c.tags, ["open-shell"]);
+        let names: Vec<_> = w.models.iter().map(|m| m.name.as_str()).collect();
+        assert_eq!(names, ["mine", "xalpha=0.8", "scan"]);
+        assert_eq!(w.rank_by, 2);
+        assert_eq!(w.report.dir, PathBuf::from("/tmp/elsewhere"));
+        assert_eq!((w.report.formats.clone(), w.report.units, w.report.worst), (vec![ReportFormat::Json], EnergyUnit::ElectronVolt, 3));
+        assert_eq!((w.threads, w.cache), (Some(2), false));
+    }
+
+    #[test]
+    fn every_mistake_is_located() {
+        let base = "calculations:\n  - name: a\n    files: [a/*.cube]\n";
+        for (yaml, needle, line) in [
+            (format!("{base}models: [lsda]\noptions:\n  threads: 0\n"), "threads must be at least 1", 6),
+            // Errors inside a calculation point at the start of its entry.
+            (format!("{base}    occupation: 2\nmodels: [lsda]\n"), "occupation must be in (0, 1]", 2),
+            ("calculations:\n  - name: \"\"\n    files: [a/*.cube]\nmodels: [lsda]\n".into(), "non-empty name", 2),
+            (format!("{base}    spin: up\nmodels: [lsda]\n"), "unknown variant `up`", 4),
+            (format!("{base}models: [lsda]\nreport:\n  formats: [pdf]\n"), "unknown variant `pdf`", 6),
+            (format!("{base}models: [lsda]\nreport:\n  units: joules\n"), "unknown energy unit", 6),
+            (format!("{base}models: []\n"), "list of models is empty", 4),
+            (format!("{base}models: [lsda]\nextra: 1\n"), "unknown field `extra`", 5),
+            ("calculations: []\nmodels: [lsda]\n".to_string(), "list of calculations is empty", 1),
+        ] {
+            let (_dir, w) = setup(&yaml);
+            let e = w.unwrap_err().to_string();
+            assert!(e.contains(needle), "{yaml}\n→ {e}");
+            assert!(e.contains(&format!("line {line}")), "{yaml}\n→ {e}");
+        }
+        let (_dir, w) = setup("calculations:\n  - name: a\n    files: [a/*.cube]\nmodels: [lsda]\n");
+        assert!(w.is_ok());
+    }
+}

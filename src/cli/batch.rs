@@ -1,0 +1,64 @@
+//! `sixray batch`: a workflow file in, set-wide reports out.
+
+use super::{Status, in_pool};
+use super::progress::Display;
+use anyhow::Context;
+use clap::Args;
+use serde_json::json;
+use sixray::batch::summary::SetSummary;
+use sixray::batch::{BatchParams, Workflow, jobs, run};
+use sixray::calculation::count_orbitals;
+use sixray::report::batch::{BatchReport, write};
+use std::path::PathBuf;
+
+#[derive(Debug, Args)]
+pub struct BatchArgs {
+    /// Workflow file (YAML): the test set, the models and the reports.
+    #[arg(value_name = "WORKFLOW")]
+    workflow: PathBuf,
+
+    /// Recompute every orbital, ignoring results cached by earlier runs.
+    #[arg(long)]
+    fresh: bool,
+
+    /// Write the reports to DIR instead of the workflow's report directory.
+    #[arg(long, value_name = "DIR")]
+    out: Option<PathBuf>,
+
+    /// No progress messages.
+    #[arg(short, long)]
+    quiet: bool,
+}
+
+/// Checks the workflow (exit 2 if it is invalid), then runs it in a pool of `threads` (or the
+/// workflow's own setting, or all cores).
+pub fn run_batch(args: BatchArgs, threads: Option<usize>) -> anyhow::Result<Status> {
+    let mut workflow = match Workflow::load(&args.workflow) {
+        Ok(w) => w,
+        Err(e) => {
+            eprintln!("sixray: error: invalid workflow: {e}");
+            return Ok(Status::BadInput);
+        }
+    };
+    if let Some(dir) = args.out {
+        workflow.report.dir = dir;
+    }
+    let display = Display::new(count_orbitals(&jobs(&workflow)), args.quiet);
+    let params = BatchParams { fresh: args.fresh, ..BatchParams::default() };
+    let results = in_pool(threads.or(workflow.threads), || Ok(run(&workflow, &params, &display)))?;
+    display.finish();
+
+    let summary = SetSummary::new(&results, workflow.models.len(), workflow.report.worst);
+    let report = BatchReport { workflow: &workflow, results: &results, summary: &summary };
+    let written = write(&report).with_context(|| format!("writing reports to {}", workflow.report.dir.display()))?;
+    for c in results.iter().filter(|c| !c.is_ok()) {
+        for f in &c.outcome.failures {
+            eprintln!("sixray: error: calculation {} failed: {}", c.name, f.error);
+        }
+    }
+    let reports: serde_json::Map<_, _> =
+        written.iter().map(|(f, p)| (format!("{f:?}").to_lowercase(), json!(p.display().to_string()))).collect();
+    let status = if summary.failed == 0 { "ok" } else { "partial" };
+    println!("{}", json!({"status": status, "completed": summary.completed, "failed": summary.failed, "reports": reports}));
+    Ok(if summary.failed == 0 { Status::Success } else { Status::Partial })
+}
