@@ -146,6 +146,59 @@ pub struct OrbitalReport {
     pub optimal_alpha: f64,
     /// Per model, in the engine's model order.
     pub models: Vec<ModelEnergies>,
+    /// Estimated charge outside the grid's box, electrons.
+    pub lost_charge: f64,
+    /// Error bars of the energies (`None` when not computed).
+    pub errors: Option<OrbitalErrors>,
+    /// Reasons not to trust the numbers; empty when all is well.
+    pub flags: Vec<Flag>,
+}
+
+/// Error bars of one orbital's energies: non-negative, hartree.
+#[derive(Clone, Debug, PartialEq, Serialize, Deserialize)]
+pub struct OrbitalErrors {
+    /// Of J.
+    pub hartree: f64,
+    /// Per model, in the engine's model order.
+    pub models: Vec<ModelErrors>,
+}
+
+/// Error bars of one model's energies: non-negative, hartree.
+#[derive(Clone, Copy, Debug, PartialEq, Serialize, Deserialize)]
+pub struct ModelErrors {
+    /// Of E_x.
+    pub exchange: f64,
+    /// Of E_c.
+    pub correlation: f64,
+    /// Of δ = J + E_x + E_c (not the sum of the others: the parts' errors partly cancel).
+    pub self_interaction: f64,
+}
+
+/// Why an orbital's numbers may not be trustworthy.
+#[derive(Clone, Copy, Debug, PartialEq, Eq, Hash, Serialize, Deserialize)]
+#[serde(rename_all = "kebab-case")]
+pub enum Flag {
+    /// The grid does not resolve the orbital (a cusp at a nucleus, usually a core): an error bar
+    /// of J or of some model's δ exceeds the tolerance.
+    UnderResolved,
+    /// Noticeable charge lies outside the box.
+    TruncatedBox,
+    /// The norm (with the charge lost outside the box) is off the occupation by over 1 %.
+    NormOff,
+    /// The values look like densities given as amplitudes, or the reverse.
+    KindSuspicious,
+}
+
+impl Flag {
+    /// The name used in reports.
+    pub fn as_str(self) -> &'static str {
+        match self {
+            Flag::UnderResolved => "under-resolved",
+            Flag::TruncatedBox => "truncated-box",
+            Flag::NormOff => "norm-off",
+            Flag::KindSuspicious => "kind-suspicious",
+        }
+    }
 }
 
 /// A result that cannot be trusted.
@@ -176,13 +229,20 @@ pub struct EngineParams {
     /// Settings of the density gradient (for gradient-corrected and meta-GGA models).
     pub gradient: GradientParams,
     /// Most Coulomb solvers (one per distinct grid) kept at once; each holds a kernel spectrum
-    /// of about 4 bytes per padded grid point.
+    /// of about 4 bytes per padded grid point (error bars use a second, coarser grid per grid).
     pub solver_cache: usize,
+    /// Error bars and checks.
+    pub trust: crate::trust::TrustParams,
 }
 
 impl Default for EngineParams {
     fn default() -> Self {
-        EngineParams { hartree: HartreeParams::default(), gradient: GradientParams::default(), solver_cache: 4 }
+        EngineParams {
+            hartree: HartreeParams::default(),
+            gradient: GradientParams::default(),
+            solver_cache: 8,
+            trust: crate::trust::TrustParams::default(),
+        }
     }
 }
 
@@ -232,12 +292,12 @@ impl Engine {
         cell.get_or_init(|| Arc::new(HartreeSolver::new(geometry, &self.params.hartree, par))).clone()
     }
 
-    /// Analyses one spin-orbital.
-    pub fn analyse(&self, orbital: &GridOrbital, par: Parallelism) -> Result<OrbitalReport, DiagnosticsError> {
+    /// Plain grid sums of one orbital: norm, J and each model's energies.
+    pub(crate) fn grid_sums(&self, orbital: &GridOrbital, par: Parallelism) -> Result<GridSums, DiagnosticsError> {
         let w = orbital.geometry.voxel_volume();
-        let rho = &orbital.density();
+        let rho = orbital.density();
         let norm = w * par.chunked_sum(rho.len(), |r| rho[r].iter().sum());
-        let hartree = self.solver(&orbital.geometry, par).self_energy(rho, par)?;
+        let hartree = self.solver(&orbital.geometry, par).self_energy(&rho, par)?;
 
         // Gradients only when some model reads them; τ of one orbital follows from them.
         let needs_gradient = self.models.iter().any(|m| m.family() >= Family::Gga);
@@ -245,43 +305,74 @@ impl Engine {
         // Each distinct functional is integrated once, however many models share it.
         let mut cache: HashMap<(Part, String), f64> = HashMap::new();
         let mut energy = |f: &dyn Functional| -> f64 {
-            *cache.entry((f.part(), f.id())).or_insert_with(|| w * grid_sum(f, rho, grad_sq.as_deref(), par))
+            *cache.entry((f.part(), f.id())).or_insert_with(|| w * grid_sum(f, &rho, grad_sq.as_deref(), par))
         };
         let lsda_exchange = energy(&XAlpha::lsda());
         let models = self
             .models
             .iter()
-            .map(|m| {
-                let exchange = energy(m.exchange.as_ref());
-                let correlation = m.correlation.as_deref().map_or(0.0, &mut energy);
-                ModelEnergies {
-                    exchange,
-                    correlation,
-                    self_interaction: hartree + exchange + correlation,
-                    cancellation: -exchange / hartree,
-                }
+            .map(|m| (energy(m.exchange.as_ref()), m.correlation.as_deref().map_or(0.0, &mut energy)))
+            .collect();
+        Ok(GridSums { norm, hartree, lsda_exchange, models, rho, grad_sq })
+    }
+
+    /// Analyses one spin-orbital: its energies and, unless switched off, their error bars and
+    /// flags (see [`crate::trust`]).
+    pub fn analyse(&self, orbital: &GridOrbital, par: Parallelism) -> Result<OrbitalReport, DiagnosticsError> {
+        let sums = self.grid_sums(orbital, par)?;
+        let hartree = sums.hartree;
+        let models = sums
+            .models
+            .iter()
+            .map(|&(exchange, correlation)| ModelEnergies {
+                exchange,
+                correlation,
+                self_interaction: hartree + exchange + correlation,
+                cancellation: -exchange / hartree,
             })
             .collect::<Vec<_>>();
-        let report = OrbitalReport {
+        let mut report = OrbitalReport {
             source: orbital.source.clone(),
             label: orbital.label.clone(),
             spin: orbital.spin,
             occupation: orbital.occupation,
-            norm,
+            norm: sums.norm,
             hartree,
-            lsda_exchange,
-            optimal_alpha: (2.0 / 3.0) * hartree / -lsda_exchange,
+            lsda_exchange: sums.lsda_exchange,
+            optimal_alpha: (2.0 / 3.0) * hartree / -sums.lsda_exchange,
             models,
+            lost_charge: 0.0,
+            errors: None,
+            flags: Vec::new(),
         };
         check_finite(&report, &self.models)?;
+        if self.params.trust.error_bars {
+            crate::trust::assess(self, orbital, &sums, &mut report, par)?;
+        }
         Ok(report)
     }
+}
+
+/// Plain grid sums of one orbital, with the density and |∇n|² they came from.
+pub(crate) struct GridSums {
+    /// ∫ n, electrons.
+    pub norm: f64,
+    /// J, hartree.
+    pub hartree: f64,
+    /// LSDA exchange, hartree.
+    pub lsda_exchange: f64,
+    /// Per model: exchange and correlation, hartree.
+    pub models: Vec<(f64, f64)>,
+    /// n at every grid point.
+    pub rho: Vec<f64>,
+    /// |∇n|² at every grid point, where some model needs it.
+    pub grad_sq: Option<Vec<f64>>,
 }
 
 /// Σ_points e(n_i, 0) over the grid, hartree/bohr³, with `grad_sq` = |∇n_i|² where the
 /// functional needs it and τ the von Weizsäcker value |∇n|²/8n of a single real orbital, from the
 /// same gradient so that the iso-orbital indicator of meta-GGAs is exactly zero.
-fn grid_sum(f: &dyn Functional, rho: &[f64], grad_sq: Option<&[f64]>, par: Parallelism) -> f64 {
+pub(crate) fn grid_sum(f: &dyn Functional, rho: &[f64], grad_sq: Option<&[f64]>, par: Parallelism) -> f64 {
     let gradients = grad_sq.filter(|_| f.family() >= Family::Gga);
     par.chunked_sum(rho.len(), |range| {
         // One buffer per chunk, one virtual call per chunk; points without density are skipped.
@@ -434,8 +525,8 @@ mod tests {
             let mean = (2.0 * a.models[m].cancellation + b.models[m].cancellation) / 3.0;
             assert!((ranking.totals[m].mean_cancellation - mean).abs() < 1e-15);
         }
-        // The solver was built once for both orbitals' grid.
-        assert_eq!(e.solvers.lock().unwrap().len(), 1);
+        // One solver for both orbitals' grid, one for the coarse sub-lattices of the error bars.
+        assert_eq!(e.solvers.lock().unwrap().len(), 2);
     }
 
     #[test]

@@ -21,4 +21,5 @@ pub mod poisson;
 pub mod progress;
 pub mod quadrature;
 pub mod report;
+pub mod trust;
 pub mod xc;

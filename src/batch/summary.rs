@@ -154,6 +154,9 @@ mod tests {
                 .iter()
                 .map(|&d| ModelEnergies { exchange: d - 1.0, correlation: 0.0, self_interaction: d, cancellation: 1.0 - d })
                 .collect(),
+            lost_charge: 0.0,
+            errors: None,
+            flags: Vec::new(),
         }
     }
 

@@ -20,6 +20,8 @@
 //!   threads: 2                       # default: all cores
 //!   rank_by: lsda                    # default: the first model
 //!   cache: true                      # reuse finished orbitals from earlier runs
+//!   error_bars: true                 # error bars and checks for every orbital
+//!   tolerance: 1.6                   # largest acceptable error bar, millihartree
 //! ```
 //!
 //! The whole file is checked before anything runs. Checks that need more than the value itself
@@ -29,6 +31,7 @@
 use crate::diagnostics::Spin;
 use crate::input::{Kind, LoadParams, SpinRule};
 use crate::report::EnergyUnit;
+use crate::trust::TrustParams;
 use crate::xc::model::{CustomModel, ModelLibrary};
 use crate::xc::Model;
 use serde::de::Error as _;
@@ -102,6 +105,8 @@ pub struct Workflow {
     pub threads: Option<usize>,
     /// Whether finished orbitals are cached and reused.
     pub cache: bool,
+    /// Error bars and checks.
+    pub trust: TrustParams,
 }
 
 /// What the custom deserialisers need to know: where relative paths start, which models exist.
@@ -312,6 +317,10 @@ struct OptionsSpec {
     rank_by: Option<ModelName>,
     #[serde(default = "yes")]
     cache: bool,
+    #[serde(default = "yes")]
+    error_bars: bool,
+    #[serde(default)]
+    tolerance: Option<Tolerance>,
 }
 
 fn yes() -> bool {
@@ -320,7 +329,17 @@ fn yes() -> bool {
 
 impl Default for OptionsSpec {
     fn default() -> Self {
-        OptionsSpec { threads: None, rank_by: None, cache: true }
+        OptionsSpec { threads: None, rank_by: None, cache: true, error_bars: true, tolerance: None }
+    }
+}
+
+/// A positive tolerance in millihartree.
+struct Tolerance(f64);
+
+impl<'de> Deserialize<'de> for Tolerance {
+    fn deserialize<D: Deserializer<'de>>(d: D) -> Result<Self, D::Error> {
+        let t = f64::deserialize(d)?;
+        if t.is_finite() && t > 0.0 { Ok(Tolerance(t)) } else { Err(D::Error::custom("tolerance must be a positive number of millihartree")) }
     }
 }
 
@@ -416,6 +435,10 @@ impl Workflow {
             report,
             threads: file.options.threads.map(|t| t.0),
             cache: file.options.cache,
+            trust: TrustParams {
+                error_bars: file.options.error_bars,
+                tolerance: file.options.tolerance.map_or(TrustParams::default().tolerance, |t| t.0 * 1e-3),
+            },
         })
     }
 }

@@ -7,6 +7,7 @@ use sixray::calculation::analyse_files;
 use sixray::diagnostics::{Engine, EngineParams, Spin};
 use sixray::input::{Kind, LoadParams, SpinRule};
 use sixray::report::{self, EnergyUnit, Report};
+use sixray::trust::TrustParams;
 use sixray::xc::Model;
 use sixray::xc::model::ModelLibrary;
 use std::path::PathBuf;
@@ -58,6 +59,15 @@ pub struct RankArgs {
     /// Write the report to FILE (atomically) instead of standard output.
     #[arg(short, long, value_name = "FILE")]
     output: Option<PathBuf>,
+
+    /// Largest acceptable error bar of J and of each model's δ, in millihartree; orbitals above
+    /// it are flagged (default 1.6 mEh, about 1 kcal/mol).
+    #[arg(long, value_name = "MEH", default_value_t = 1.6)]
+    tolerance: f64,
+
+    /// Skip error bars and checks (about halves the time per orbital).
+    #[arg(long)]
+    no_error_bars: bool,
 
     /// Exit with status 3 (after writing the report) if any orbital's |δ| under the --rank-by
     /// model exceeds THRESHOLD, given in --units (millihartree by default).
@@ -134,7 +144,11 @@ pub fn run(args: RankArgs) -> anyhow::Result<Status> {
         ..LoadParams::default()
     };
 
-    let engine = Engine::new(models, EngineParams::default());
+    if !(args.tolerance.is_finite() && args.tolerance > 0.0) {
+        bail!("--tolerance must be a positive number of millihartree");
+    }
+    let trust = TrustParams { error_bars: !args.no_error_bars, tolerance: args.tolerance * 1e-3 };
+    let engine = Engine::new(models, EngineParams { trust, ..EngineParams::default() });
     let outcome = analyse_files(&args.files, &load, &engine, rank_by);
     for f in &outcome.failures {
         eprintln!("sixray: error: {}", f.error);

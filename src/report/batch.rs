@@ -9,7 +9,8 @@
 //!                                   "max_abs_self_interaction", "max_at": {"calculation", "label"},
 //!                                   "mean_cancellation", "spin_orbitals"}},
 //!                "tags": {TAG: {"calculations", "models": {MODEL: {...as above}}}},
-//!                "worst": [{"calculation", "label", "spin", "model", "self_interaction", "hartree"}] },
+//!                "worst": [{"calculation", "label", "spin", "model", "self_interaction", "hartree"}],
+//!                "flags": {FLAG: number of orbital records}, "tolerance" },
 //!   "calculations": [ {"name", "tags", "status": "ok" | "failed", "error" (when failed),
 //!                      "failures": [{"source", "error"}], "orbitals": [...as in rank],
 //!                      "totals": {MODEL: {"perdew_zunger", "mean_cancellation"}},
@@ -20,7 +21,7 @@
 //! writes the same bytes.
 
 use super::text::{Table, markdown_failures, markdown_orbitals, markdown_totals};
-use super::{EnergyUnit, Report, csv, json, write_atomic};
+use super::{EnergyUnit, Report, csv, flags_text, json, write_atomic};
 use crate::batch::summary::{ModelStats, SetSummary};
 use crate::batch::{CalculationResult, ReportFormat, Workflow};
 use serde_json::{Map, Value, json};
@@ -69,6 +70,20 @@ fn per_model(report: &BatchReport, stats: &[Option<ModelStats>]) -> Value {
         .filter_map(|(i, s)| s.as_ref().map(|s| (report.model_name(i).to_string(), stats_value(s))))
         .collect::<Map<_, _>>();
     Value::Object(map)
+}
+
+/// How many orbital records of completed calculations carry each flag, in flag order.
+fn flag_counts(report: &BatchReport) -> Vec<(&'static str, usize)> {
+    let mut counts: Vec<(&'static str, usize)> = Vec::new();
+    for o in report.results.iter().filter(|c| c.is_ok()).flat_map(|c| &c.outcome.ranking.orbitals) {
+        for f in &o.flags {
+            match counts.iter_mut().find(|(name, _)| *name == f.as_str()) {
+                Some((_, n)) => *n += 1,
+                None => counts.push((f.as_str(), 1)),
+            }
+        }
+    }
+    counts
 }
 
 /// The batch report as a JSON value.
@@ -127,6 +142,8 @@ pub fn to_value(report: &BatchReport) -> Value {
             "models": per_model(report, &s.models),
             "tags": tags,
             "worst": worst,
+            "flags": flag_counts(report).into_iter().map(|(f, n)| (f.to_string(), json!(n))).collect::<Map<_, _>>(),
+            "tolerance": report.workflow.trust.tolerance,
         },
         "calculations": calculations,
     })
@@ -168,6 +185,13 @@ pub fn render_markdown(report: &BatchReport, unit: EnergyUnit) -> String {
         wf.models.len()
     );
 
+    let flagged = flag_counts(report);
+    if flagged.is_empty() {
+        out += "Every orbital passed the grid checks.\n\n";
+    } else {
+        let list = flagged.iter().map(|(f, n)| format!("{n} {f}")).collect::<Vec<_>>().join(", ");
+        out += &format!("Orbital records flagged by the grid checks: {list} (tolerance {} {u}).\n\n", unit.format(wf.trust.tolerance));
+    }
     out += "## Models across the set\n\n";
     let mut t = Table::new(&[
         ("model", false),
@@ -226,16 +250,19 @@ pub fn render_markdown(report: &BatchReport, unit: EnergyUnit) -> String {
         ("model", false),
         (&format!("δ ({u})"), true),
         (&format!("J ({u})"), true),
+        ("flags", false),
     ]);
     for (i, w) in s.worst.iter().enumerate() {
+        let errors = w.orbital.errors.as_ref();
         t.rows.push(vec![
             (i + 1).to_string(),
             w.calculation.clone(),
             w.orbital.label.clone(),
             w.orbital.spin.as_str().into(),
             report.model_name(w.model).into(),
-            unit.format(w.self_interaction()),
-            unit.format(w.orbital.hartree),
+            unit.format_with_error(w.self_interaction(), errors.map(|e| e.models[w.model].self_interaction)),
+            unit.format_with_error(w.orbital.hartree, errors.map(|e| e.hartree)),
+            flags_text(&w.orbital),
         ]);
     }
     out += &t.markdown();

@@ -3,20 +3,27 @@
 use super::Report;
 
 /// Column names, in order.
-pub const COLUMNS: [&str; 13] = [
+pub const COLUMNS: [&str; 20] = [
     "rank",
     "source",
     "label",
     "spin",
     "occupation",
     "norm",
+    "lost_charge",
     "hartree",
+    "hartree_error",
     "optimal_alpha",
     "model",
     "exchange",
+    "exchange_error",
     "correlation",
+    "correlation_error",
     "self_interaction",
+    "self_interaction_error",
     "cancellation",
+    "flags",
+    "checked",
 ];
 
 /// A field quoted where RFC 4180 requires it.
@@ -34,8 +41,12 @@ pub fn render(report: &Report) -> String {
 /// Appends one line per (shown orbital, model), each starting with the `leading` cells (already
 /// quoted where needed).
 pub fn rows(report: &Report, leading: &[String], out: &mut String) {
+    // Error bars are empty cells where they were not computed.
+    let opt = |v: Option<f64>| v.map_or(String::new(), |v| v.to_string());
     for (i, o) in report.shown().iter().enumerate() {
-        for (m, e) in report.models.iter().zip(&o.models) {
+        let flags = o.flags.iter().map(|f| f.as_str()).collect::<Vec<_>>().join(";");
+        for (k, (m, e)) in report.models.iter().zip(&o.models).enumerate() {
+            let err = o.errors.as_ref().map(|x| x.models[k]);
             let cells = [
                 (i + 1).to_string(),
                 field(&o.source),
@@ -43,13 +54,20 @@ pub fn rows(report: &Report, leading: &[String], out: &mut String) {
                 o.spin.as_str().to_string(),
                 o.occupation.to_string(),
                 o.norm.to_string(),
+                o.lost_charge.to_string(),
                 o.hartree.to_string(),
+                opt(o.errors.as_ref().map(|x| x.hartree)),
                 o.optimal_alpha.to_string(),
                 field(&m.name),
                 e.exchange.to_string(),
+                opt(err.map(|x| x.exchange)),
                 e.correlation.to_string(),
+                opt(err.map(|x| x.correlation)),
                 e.self_interaction.to_string(),
+                opt(err.map(|x| x.self_interaction)),
                 e.cancellation.to_string(),
+                flags.clone(),
+                o.errors.is_some().to_string(),
             ];
             let line: Vec<&str> = leading.iter().map(String::as_str).chain(cells.iter().map(String::as_str)).collect();
             out.push_str(&line.join(","));

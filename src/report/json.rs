@@ -3,9 +3,11 @@
 //! ```text
 //! { "tool": {"name", "version"}, "units": "hartree", "rank_by": MODEL,
 //!   "models": [{"name", "exchange", "correlation", "summary"}],
-//!   "orbitals": [ {"rank", "source", "label", "spin", "occupation", "norm", "hartree",
-//!                  "optimal_alpha", "models": {MODEL: {"exchange", "correlation",
-//!                  "self_interaction", "cancellation"}}} ],          // worst first
+//!   "orbitals": [ {"rank", "source", "label", "spin", "occupation", "norm", "lost_charge",
+//!                  "hartree", "optimal_alpha", "models": {MODEL: {"exchange", "correlation",
+//!                  "self_interaction", "cancellation"}},
+//!                  "errors": {"hartree", "models": {MODEL: {"exchange", "correlation",
+//!                  "self_interaction"}}} or null, "flags": [FLAG]} ],   // worst first
 //!   "totals": {MODEL: {"perdew_zunger", "mean_cancellation"}}, "spin_orbitals": N,
 //!   "failures": [{"source", "error"}] }
 //! ```
@@ -36,6 +38,22 @@ pub fn orbitals(report: &Report) -> Vec<Value> {
                     (m.name.clone(), v)
                 })
                 .collect::<Map<_, _>>();
+            let errors = o.errors.as_ref().map(|e| {
+                let per_model = report
+                    .models
+                    .iter()
+                    .zip(&e.models)
+                    .map(|(m, e)| {
+                        let v = json!({
+                            "exchange": e.exchange,
+                            "correlation": e.correlation,
+                            "self_interaction": e.self_interaction,
+                        });
+                        (m.name.clone(), v)
+                    })
+                    .collect::<Map<_, _>>();
+                json!({"hartree": e.hartree, "models": per_model})
+            });
             json!({
                 "rank": i + 1,
                 "source": o.source,
@@ -43,9 +61,12 @@ pub fn orbitals(report: &Report) -> Vec<Value> {
                 "spin": o.spin.as_str(),
                 "occupation": o.occupation,
                 "norm": o.norm,
+                "lost_charge": o.lost_charge,
                 "hartree": o.hartree,
                 "optimal_alpha": o.optimal_alpha,
                 "models": per_model,
+                "errors": errors,
+                "flags": o.flags.iter().map(|f| f.as_str()).collect::<Vec<_>>(),
             })
         })
         .collect()

@@ -10,6 +10,7 @@ pub mod json;
 pub mod text;
 
 use crate::calculation::Outcome;
+use crate::diagnostics::OrbitalReport;
 use crate::xc::Model;
 use std::io::Write;
 use std::path::Path;
@@ -95,6 +96,28 @@ impl EnergyUnit {
     }
 }
 
+impl EnergyUnit {
+    /// `value ± error` in this unit, or the value alone without an error bar.
+    pub fn format_with_error(self, value: f64, error: Option<f64>) -> String {
+        match error {
+            Some(e) => format!("{} ± {}", self.format(value), self.format(e)),
+            None => self.format(value),
+        }
+    }
+}
+
+/// The orbital's flags for people: `ok`, the reasons not to trust it, or `unchecked` when no
+/// error bars were computed.
+pub fn flags_text(o: &OrbitalReport) -> String {
+    if o.errors.is_none() {
+        "unchecked".into()
+    } else if o.flags.is_empty() {
+        "ok".into()
+    } else {
+        o.flags.iter().map(|f| f.as_str()).collect::<Vec<_>>().join(", ")
+    }
+}
+
 impl FromStr for EnergyUnit {
     type Err = String;
     fn from_str(s: &str) -> Result<Self, String> {
@@ -122,7 +145,7 @@ pub struct Report<'a> {
 
 impl Report<'_> {
     /// The orbitals shown, worst first.
-    pub fn shown(&self) -> &[crate::diagnostics::OrbitalReport] {
+    pub fn shown(&self) -> &[OrbitalReport] {
         let all = &self.outcome.ranking.orbitals;
         &all[..self.top.unwrap_or(all.len()).min(all.len())]
     }

@@ -3,7 +3,7 @@
 //! The terminal table is compact (one δ and one cancellation ratio per model); Markdown carries
 //! every energy, since documents can be wide.
 
-use super::{EnergyUnit, Report};
+use super::{EnergyUnit, Report, flags_text};
 use crate::diagnostics::OrbitalReport;
 
 /// A table of text cells with per-column alignment (true: right-aligned).
@@ -92,9 +92,17 @@ fn orbital_cells(rank: usize, o: &OrbitalReport, unit: EnergyUnit) -> Vec<String
         o.label.clone(),
         o.spin.as_str().to_string(),
         format!("{:.4}", o.norm),
-        unit.format(o.hartree),
+        unit.format_with_error(o.hartree, o.errors.as_ref().map(|e| e.hartree)),
         format!("{:.4}", o.optimal_alpha),
     ]
+}
+
+/// Error bar of model `m`'s energy `q` (0 exchange, 1 correlation, 2 δ), if computed.
+fn model_error(o: &OrbitalReport, m: usize, q: usize) -> Option<f64> {
+    o.errors.as_ref().map(|e| {
+        let e = e.models[m];
+        [e.exchange, e.correlation, e.self_interaction][q]
+    })
 }
 
 /// Per-model totals: Perdew–Zunger correction and mean cancellation.
@@ -138,12 +146,14 @@ pub fn render_table(report: &Report, unit: EnergyUnit) -> String {
         t.push(format!("δ {}", m.name), true);
         t.push(format!("−Ex/J {}", m.name), true);
     }
+    t.push("flags".into(), false);
     for (i, o) in report.shown().iter().enumerate() {
         let mut row = orbital_cells(i + 1, o, unit);
-        for e in &o.models {
-            row.push(unit.format(e.self_interaction));
+        for (m, e) in o.models.iter().enumerate() {
+            row.push(unit.format_with_error(e.self_interaction, model_error(o, m, 2)));
             row.push(format!("{:.4}", e.cancellation));
         }
+        row.push(flags_text(o));
         t.rows.push(row);
     }
     let mut out = format!("{}\n\n{}\n", caption(report, unit), t.plain("  "));
@@ -169,12 +179,15 @@ pub fn markdown_orbitals(report: &Report, unit: EnergyUnit) -> String {
             t.push(format!("{q} {}", m.name), true);
         }
     }
+    t.push("flags".into(), false);
     for (i, o) in report.shown().iter().enumerate() {
         let mut row = orbital_cells(i + 1, o, unit);
-        for e in &o.models {
-            row.extend([unit.format(e.exchange), unit.format(e.correlation), unit.format(e.self_interaction)]);
+        for (m, e) in o.models.iter().enumerate() {
+            let values = [e.exchange, e.correlation, e.self_interaction];
+            row.extend((0..3).map(|q| unit.format_with_error(values[q], model_error(o, m, q))));
             row.push(format!("{:.4}", e.cancellation));
         }
+        row.push(flags_text(o));
         t.rows.push(row);
     }
     t.markdown()

@@ -80,6 +80,15 @@ fn ranks_a_multi_orbital_sample_as_json() {
         assert!((delta(o, "lsda") - (j + x + c)).abs() < 1e-12);
         assert!((m["cancellation"].as_f64().unwrap() + x / j).abs() < 1e-12);
         assert_eq!(o["models"]["slater"]["correlation"], 0.0);
+        // Error bars have the shape of the values, non-negative; flags is a list.
+        let e = &o["errors"];
+        assert!(e["hartree"].as_f64().unwrap() >= 0.0);
+        for m in ["lsda", "slater"] {
+            for q in ["exchange", "correlation", "self_interaction"] {
+                assert!(e["models"][m][q].as_f64().unwrap() >= 0.0, "{m}.{q}");
+            }
+        }
+        assert!(o["flags"].is_array() && o["lost_charge"].as_f64().unwrap() >= 0.0);
         if i > 0 {
             assert!(delta(&orbitals[i - 1], "lsda").abs() >= delta(o, "lsda").abs());
         }
@@ -133,7 +142,15 @@ fn formats_units_top_and_output_file() {
 
     let csv = stdout(&sixray(&["rank", "-f", "csv", "-m", "lsda", "-m", "slater", f], dir.path()));
     let lines: Vec<_> = csv.lines().collect();
-    assert_eq!(lines[0], "rank,source,label,spin,occupation,norm,hartree,optimal_alpha,model,exchange,correlation,self_interaction,cancellation");
+    assert_eq!(
+        lines[0],
+        "rank,source,label,spin,occupation,norm,lost_charge,hartree,hartree_error,optimal_alpha,model,exchange,\
+         exchange_error,correlation,correlation_error,self_interaction,self_interaction_error,cancellation,flags,checked"
+    );
+    // Error bars are there unless switched off.
+    assert!(lines[1].ends_with(",true") && !lines[1].contains(",,"), "{}", lines[1]);
+    let bare = stdout(&sixray(&["rank", "-f", "csv", "--no-error-bars", f], dir.path()));
+    assert!(bare.lines().nth(1).unwrap().ends_with(",false"), "{bare}");
     assert_eq!(lines.len(), 3, "one row per orbital and model: {csv}");
 
     // --top limits the rows, not the totals; --output writes the same text atomically.

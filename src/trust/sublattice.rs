@@ -1,0 +1,101 @@
+//! The eight sub-lattices of every second grid point, and how far results on them scatter.
+//!
+//! Sub-lattice `(a, b, c)` holds the points `(2i + a, 2j + b, 2k + c)`: a grid of spacing 2h
+//! shifted by `a·a0 + b·a1 + c·a2`. All eight are trimmed to the common shape `⌊n/2⌋` per axis
+//! (dropping at most the outermost layer, where the density has decayed), so that they share one
+//! Coulomb kernel.
+
+use super::Spreads;
+use crate::diagnostics::{DiagnosticsError, Engine, GridOrbital, GridSums};
+use crate::grid::GridGeometry;
+use crate::par::Parallelism;
+use std::sync::Arc;
+
+/// Sub-lattices need at least this many points per axis to say anything.
+const MIN_COARSE_POINTS: usize = 8;
+
+/// Sub-lattice `offset` of `o`, or `None` if the grid is too small to coarsen.
+fn sublattice(o: &GridOrbital, offset: [usize; 3]) -> Option<GridOrbital> {
+    let g = &o.geometry;
+    let shape = g.shape.map(|n| n / 2);
+    if shape.iter().any(|&n| n < MIN_COARSE_POINTS) {
+        return None;
+    }
+    let [_, n1, n2] = g.shape;
+    let mut values = Vec::with_capacity(shape.iter().product());
+    for i in 0..shape[0] {
+        for j in 0..shape[1] {
+            let row = ((2 * i + offset[0]) * n1 + 2 * j + offset[1]) * n2 + offset[2];
+            values.extend((0..shape[2]).map(|k| o.values[row + 2 * k]));
+        }
+    }
+    let geometry = GridGeometry::new(g.point(offset), g.axes.map(|a| a.map(|x| 2.0 * x)), shape).ok()?;
+    Some(GridOrbital { geometry: Arc::new(geometry), values, ..o.clone() })
+}
+
+/// Largest deviation of each quantity on the sub-lattices from its fine-grid value (zero where
+/// the grid is too small to coarsen).
+pub(super) fn spreads(engine: &Engine, o: &GridOrbital, sums: &GridSums, par: Parallelism) -> Result<Spreads, DiagnosticsError> {
+    let models = sums.models.len();
+    let offsets: Vec<[usize; 3]> = (0..8).map(|k| [k >> 2, (k >> 1) & 1, k & 1]).collect();
+    // Sub-lattices run side by side, each on one thread, when the caller allows threads.
+    let results = par.map(offsets.len(), |k| match sublattice(o, offsets[k]) {
+        Some(sub) => engine.grid_sums(&sub, Parallelism::Sequential).map(Some),
+        None => Ok(None),
+    });
+    let mut s = Spreads { hartree: 0.0, models: vec![(0.0, 0.0); models], self_interaction: vec![0.0; models] };
+    let delta = |g: &GridSums, m: usize| g.hartree + g.models[m].0 + g.models[m].1;
+    for r in results {
+        let Some(coarse) = r? else { continue };
+        s.hartree = s.hartree.max((coarse.hartree - sums.hartree).abs());
+        for m in 0..models {
+            let (x, c) = (coarse.models[m], sums.models[m]);
+            s.models[m].0 = s.models[m].0.max((x.0 - c.0).abs());
+            s.models[m].1 = s.models[m].1.max((x.1 - c.1).abs());
+            s.self_interaction[m] = s.self_interaction[m].max((delta(&coarse, m) - delta(sums, m)).abs());
+        }
+    }
+    Ok(s)
+}
+
+#[cfg(test)]
+mod tests {
+    use super::*;
+    use crate::diagnostics::{Kind, Spin};
+
+    #[test]
+    fn sublattices_partition_the_points() {
+        let g = GridGeometry::new([0.1, 0.2, 0.3], [[0.2, 0.0, 0.0], [0.05, 0.2, 0.0], [0.0, 0.0, 0.25]], [17, 16, 18]).unwrap();
+        let values: Vec<f64> = (0..g.len()).map(|i| i as f64).collect();
+        let o = GridOrbital {
+            source: "t".into(),
+            label: "t".into(),
+            spin: Spin::Alpha,
+            occupation: 1.0,
+            geometry: Arc::new(g.clone()),
+            nuclei: Arc::from(Vec::new()),
+            kind: Kind::Amplitude,
+            values,
+        };
+        let mut seen = std::collections::HashSet::new();
+        for k in 0..8 {
+            let off = [k >> 2, (k >> 1) & 1, k & 1];
+            let s = sublattice(&o, off).unwrap();
+            assert_eq!(s.geometry.shape, [8, 8, 9]);
+            // Each value sits where its fine-grid point was.
+            let [_, n1, n2] = g.shape;
+            for (idx, &v) in s.values.iter().enumerate() {
+                let fine = v as usize;
+                let (i, j, l) = (fine / (n1 * n2), (fine / n2) % n1, fine % n2);
+                let (ci, cj, cl) = (idx / (8 * 9), (idx / 9) % 8, idx % 9);
+                let (p, q) = (g.point([i, j, l]), s.geometry.point([ci, cj, cl]));
+                assert!((0..3).all(|x| (p[x] - q[x]).abs() < 1e-12));
+                assert!(seen.insert(fine));
+            }
+        }
+        // Only the dropped outermost layer of the odd axis is missing.
+        assert_eq!(seen.len(), 16 * 16 * 18);
+        let small = GridOrbital { geometry: Arc::new(GridGeometry::new([0.0; 3], g.axes, [15, 16, 18]).unwrap()), ..o };
+        assert!(sublattice(&small, [0, 0, 0]).is_none());
+    }
+}
