@@ -4,8 +4,8 @@
 //!    (`%13.5E`, six values per line), read plain and gzip-compressed; MB/s of cube text.
 //! 2. Engine: J plus three models (lsda, slater, xalpha=0.75) for one 128³ orbital, after the
 //!    Coulomb kernel of the grid has been built once (its cost is reported separately), on one
-//!    thread and on all threads; then J plus all twelve functionals (seven models), density
-//!    gradients included.
+//!    thread and on all threads, without and with error bars; then J plus all twelve
+//!    functionals (seven models), density gradients included, without error bars.
 //! 3. Peak resident memory of the process (VmHWM).
 //!
 //! Each timing is the best of several runs. The data are invented for the benchmark only.
@@ -13,6 +13,7 @@
 use sixray::diagnostics::{Engine, EngineParams, GridOrbital, Kind, Spin};
 use sixray::grid::GridGeometry;
 use sixray::par::Parallelism;
+use sixray::trust::TrustParams;
 use sixray::xc::Model;
 use sixray_parsers::cube::{ReadParams, read_cube};
 use std::fmt::Write as _;
@@ -115,8 +116,9 @@ fn main() {
     let every_functional = ["lsda", "lsda-vwn5", "blyp", "pbe", "pw91-x", "scan", "r2scan"]
         .map(|m| Model::from_name(m).expect("model"))
         .to_vec();
+    let plain = EngineParams { trust: TrustParams { error_bars: false, ..TrustParams::default() }, ..EngineParams::default() };
     for (label, par) in [("1 thread", Parallelism::Sequential), ("all threads", Parallelism::Rayon)] {
-        let engine = Engine::new(models.clone(), EngineParams::default());
+        let engine = Engine::new(models.clone(), plain.clone());
         let (setup, solver) = best(1, || engine.solver(&g, par));
         let padded = solver.padded_shape();
         let (t, report) = best(5, || engine.analyse(&orbital, par).expect("analyse"));
@@ -126,7 +128,11 @@ fn main() {
             setup.as_secs_f64()
         );
         println!("{:<52} {:>9.3} s  (J = {:.6} Eh)", format!("J + 3 models per orbital ({label})"), t.as_secs_f64(), report.hartree);
-        let every = Engine::new(every_functional.clone(), EngineParams::default());
+        let checked = Engine::new(models.clone(), EngineParams::default());
+        checked.analyse(&orbital, par).expect("analyse");
+        let (t, _) = best(3, || checked.analyse(&orbital, par).expect("analyse"));
+        println!("{:<52} {:>9.3} s", format!("  … with error bars and checks ({label})"), t.as_secs_f64());
+        let every = Engine::new(every_functional.clone(), plain.clone());
         every.solver(&g, par);
         let (t, _) = best(3, || every.analyse(&orbital, par).expect("analyse"));
         println!("{:<52} {:>9.3} s", format!("J + all 12 functionals, gradients incl. ({label})"), t.as_secs_f64());

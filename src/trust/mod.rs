@@ -26,8 +26,8 @@
 //! gradient-corrected and meta-GGA ones (for δ, the sum over its parts): the largest errors seen
 //! on resolved orbitals of the shared reference set, so it is calibrated there, not derived.
 //!
-//! Checks, each a [`Flag`]: an error bar of J or of some model's δ, less its tail part, above
-//! the tolerance (under-resolved), charge lost beyond the box above 1e-3 of the occupation or a tail error of J
+//! Checks, each a [`Flag`]: the grid-dependent part (registration and cusps) of the error bar of
+//! J or of some model's δ above the tolerance (under-resolved), charge lost beyond the box above 1e-3 of the occupation or a tail error of J
 //! above the tolerance (truncated box), a norm (with the lost charge) off the occupation by more
 //! than 1 % (norm off), and values that integrate to the occupation themselves while their
 //! squares do not, or the reverse (kind suspicious).
@@ -148,10 +148,12 @@ pub(crate) fn assess(
     let tolerance = engine.params().trust.tolerance;
     let f = orbital.occupation;
     let mut flags = Vec::new();
-    // Resolution: the error bars without the tail, which has its own flag.
+    // Resolution: the grid-dependent parts of the bars (the tail has its own flag, and the
+    // residual is the same on any grid).
+    let resolution = |reg: f64, cusp: f64| reg / REGISTRATION_DIVISOR + CUSP_FACTOR * cusp.abs();
     let worst_resolution = (0..models)
-        .map(|m| errors.models[m].self_interaction - tail.deviation.self_interaction(m).abs())
-        .fold(errors.hartree - tail.deviation.hartree.abs(), f64::max);
+        .map(|m| resolution(registration.self_interaction[m], cusp.self_interaction(m)))
+        .fold(resolution(registration.hartree, cusp.hartree), f64::max);
     if worst_resolution > tolerance {
         flags.push(Flag::UnderResolved);
     }
