@@ -5,4 +5,5 @@ mod batch;
 mod cli;
 mod common;
 mod functionals;
+mod inspect;
 mod reference;
