@@ -16,6 +16,7 @@ pub mod diagnostics;
 pub mod gradient;
 pub mod grid;
 pub mod input;
+pub mod inspect;
 pub mod par;
 pub mod poisson;
 pub mod progress;

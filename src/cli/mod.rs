@@ -1,6 +1,7 @@
 //! Command-line arguments and their wiring to the library. No physics here.
 
 mod batch;
+mod inspect;
 mod progress;
 mod rank;
 
@@ -26,6 +27,9 @@ enum Command {
     Rank(rank::RankArgs),
     /// Run a workflow: every calculation of a test set, with set-wide reports.
     Batch(batch::BatchArgs),
+    /// Check total-density grid files: electron count, nuclei against the listed atoms, box,
+    /// and the sum of the calculation's orbital files.
+    Inspect(inspect::InspectArgs),
     /// List the exchange-correlation models and functionals.
     Models(ModelsArgs),
 }
@@ -47,7 +51,8 @@ pub enum Status {
     /// Bad arguments, an invalid workflow, or input that could not be read (results of the rest
     /// are still written).
     BadInput,
-    /// An orbital's self-interaction error exceeded `--fail-above`.
+    /// An orbital's self-interaction error exceeded `--fail-above`, or `inspect --strict` raised
+    /// a flag.
     AboveThreshold,
 }
 
@@ -70,6 +75,7 @@ pub fn run(cli: Cli) -> anyhow::Result<Status> {
     match cli.command {
         Command::Rank(args) => in_pool(cli.threads, || rank::run(args)),
         Command::Batch(args) => batch::run_batch(args, cli.threads),
+        Command::Inspect(args) => in_pool(cli.threads, || inspect::run(args)),
         Command::Models(args) => {
             let library = match &args.models_file {
                 Some(path) => ModelLibrary::builtin().with_file(path)?,

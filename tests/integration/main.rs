@@ -5,5 +5,6 @@ mod batch;
 mod cli;
 mod common;
 mod functionals;
+mod inspect;
 mod reference;
 mod trust;
