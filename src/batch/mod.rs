@@ -3,13 +3,17 @@
 //! All files of all calculations are scheduled together (see [`crate::calculation`] for the
 //! bounded-memory strategy). A file that fails fails its calculation; every other calculation
 //! completes. Finished orbitals go to a content-addressed cache in the report directory as they
-//! finish, so an interrupted run resumes where it stopped and gives the same reports.
+//! finish, so an interrupted run resumes where it stopped and gives the same reports. A
+//! calculation's total-density file, if it names one, is checked against the atoms it lists and
+//! against the calculation's orbitals (see [`crate::inspect`]).
 
 pub mod summary;
 pub mod workflow;
 
 use crate::cache::ResultCache;
-use crate::calculation::{FileJob, Outcome, run_files, split};
+use crate::calculation::{FileFailure, FileJob, Outcome, run_files, split};
+use crate::inspect::{FileInspection, InspectParams, inspect_file};
+use crate::par::Parallelism;
 use crate::diagnostics::{Engine, EngineParams, Ranking};
 use crate::progress::Progress;
 pub use workflow::{ReportFormat, Workflow, WorkflowError};
@@ -33,6 +37,8 @@ pub struct CalculationResult {
     /// Its orbitals, ranked, with totals (incomplete if a file failed), and its failed files; the
     /// calculation has failed if there are any.
     pub outcome: Outcome,
+    /// The check of its total-density file (and of its orbitals against it), if it has one.
+    pub density: Option<FileInspection>,
 }
 
 impl CalculationResult {
@@ -65,9 +71,18 @@ pub fn run(workflow: &Workflow, params: &BatchParams, progress: &dyn Progress) -
         .calculations
         .iter()
         .map(|c| {
-            let (orbitals, failures) = split(results.by_ref().take(c.files.len()).collect());
+            let (orbitals, mut failures) = split(results.by_ref().take(c.files.len()).collect());
+            let density = c.density.as_ref().and_then(|path| {
+                match inspect_file(path, &c.files, &c.load, &InspectParams::default(), Parallelism::Rayon) {
+                    Ok(i) => Some(i),
+                    Err(e) => {
+                        failures.push(FileFailure { source: path.display().to_string(), error: e.to_string() });
+                        None
+                    }
+                }
+            });
             let ranking = Ranking::new(orbitals, workflow.rank_by);
-            CalculationResult { name: c.name.clone(), tags: c.tags.clone(), outcome: Outcome { ranking, failures } }
+            CalculationResult { name: c.name.clone(), tags: c.tags.clone(), outcome: Outcome { ranking, failures }, density }
         })
         .collect()
 }

@@ -166,6 +166,7 @@ mod tests {
             name: name.into(),
             tags: tags.iter().map(|t| t.to_string()).collect(),
             outcome: Outcome { ranking: Ranking::new(orbitals, 0), failures },
+            density: None,
         }
     }
 

@@ -8,6 +8,7 @@
 //!     spin: from-name                # optional: from-name (default) | restricted | alpha | beta
 //!     occupation: 1.0                # optional: electrons per spin-orbital, 0 < f ≤ 1
 //!     tags: [neutral]                # optional
+//!     density: water/density.cube.gz # optional: total density, checked against the atoms and orbitals
 //! models: [lsda, blyp, xalpha=0.75]  # named models, xalpha=VALUE, or custom ones below
 //! custom_models:                     # optional, as in a models file
 //!   - {name: xa-vwn, exchange: xalpha, alpha: 0.7, correlation: vwn5}
@@ -73,6 +74,8 @@ pub struct CalculationPlan {
     pub load: LoadParams,
     /// Its grid files, in pattern order, each pattern's matches sorted.
     pub files: Vec<PathBuf>,
+    /// Its total-density file, checked against its atoms and its orbitals, if given.
+    pub density: Option<PathBuf>,
 }
 
 /// Where and how reports are written.
@@ -232,6 +235,21 @@ struct CalculationSpec {
     occupation: Option<Occupation>,
     #[serde(default)]
     tags: Vec<String>,
+    #[serde(default)]
+    density: Option<DensityFile>,
+}
+
+/// The one total-density file a pattern names.
+struct DensityFile(PathBuf);
+
+impl<'de> Deserialize<'de> for DensityFile {
+    fn deserialize<D: Deserializer<'de>>(d: D) -> Result<Self, D::Error> {
+        let Pattern(mut files) = Pattern::deserialize(d)?;
+        match files.len() {
+            1 => Ok(DensityFile(files.remove(0))),
+            n => Err(D::Error::custom(format!("density must name one file; the pattern matches {n}"))),
+        }
+    }
 }
 
 impl Named for CalculationSpec {
@@ -418,6 +436,7 @@ impl Workflow {
                     tags: c.tags,
                     load: LoadParams { kind, spin, occupation, ..LoadParams::default() },
                     files,
+                    density: c.density.map(|d| d.0),
                 }
             })
             .collect();

@@ -14,7 +14,7 @@
 //!   "calculations": [ {"name", "tags", "status": "ok" | "failed", "error" (when failed),
 //!                      "failures": [{"source", "error"}], "orbitals": [...as in rank],
 //!                      "totals": {MODEL: {"perdew_zunger", "mean_cancellation"}},
-//!                      "spin_orbitals"} ] }
+//!                      "spin_orbitals", "density_check": (as one file of `inspect --format json`) or null} ] }
 //! ```
 //!
 //! Nothing in a report depends on timing or on the machine, so a rerun (from the cache or not)
@@ -126,6 +126,7 @@ pub fn to_value(report: &BatchReport) -> Value {
             map.insert("orbitals".into(), json!(json::orbitals(&r)));
             map.insert("totals".into(), json::totals(&r));
             map.insert("spin_orbitals".into(), json!(c.outcome.ranking.spin_orbitals));
+            map.insert("density_check".into(), c.density.as_ref().map_or(Value::Null, crate::inspect::render::file_json));
             v
         })
         .collect::<Vec<_>>();
@@ -275,6 +276,24 @@ pub fn render_markdown(report: &BatchReport, unit: EnergyUnit) -> String {
         if !c.is_ok() {
             out += "**Failed**: the orbitals below are incomplete and excluded from the statistics above.\n\n";
             out += &markdown_failures(&c.outcome.failures);
+            out += "\n";
+        }
+        if let Some(d) = &c.density {
+            let i = &d.inspection;
+            let matched = i.nuclei.iter().filter(|n| n.atom.is_some()).count();
+            out += &format!(
+                "Density check (`{}`): {:.4} electrons on the grid; {matched} of {} listed atoms found at density maxima",
+                d.source,
+                i.electrons,
+                i.atoms.len()
+            );
+            if let Some(sum) = &d.orbital_sum {
+                out += &format!("; orbitals sum to the density within {:.1e} e", sum.integrated_abs_difference);
+            }
+            out += ".\n";
+            for f in &i.flags {
+                out += &format!("- {}: {}\n", f.kind.as_str(), f.message);
+            }
             out += "\n";
         }
         if c.outcome.ranking.orbitals.is_empty() {

@@ -200,3 +200,39 @@ fn an_interrupted_run_resumes_from_the_cache_with_identical_reports() {
         assert!(std::fs::read(dir.path().join("whole").join(name)).unwrap() == std::fs::read(dir.path().join("resumed").join(name)).unwrap());
     }
 }
+
+#[test]
+fn density_files_are_checked_per_calculation() {
+    // reference: PySCF 2.14 orbitals and total densities of the shared reference set.
+    let Some(shared) = crate::common::shared_dir("density_files_are_checked_per_calculation") else { return };
+    let dir = tempfile::tempdir().unwrap();
+    let r = shared.join("reference");
+    let yaml = format!(
+        "calculations:\n\
+         \x20 - name: water\n    files: ['{0}/water/orbital_*.cube.gz']\n    density: '{0}/water/density.cube.gz'\n\
+         \x20 - name: water paired with the wrong density\n    files: ['{0}/water/orbital_*.cube.gz']\n    density: '{0}/lithium_hydride/density.cube.gz'\n\
+         models: [lsda]\noptions:\n  error_bars: false\n",
+        r.display()
+    );
+    std::fs::write(dir.path().join("set.yaml"), yaml).unwrap();
+    let run = sixray(&["batch", "set.yaml", "--quiet"], dir.path());
+    assert_eq!(run.status.code(), Some(0), "{}", stderr(&run));
+    let report = read_json(&dir.path().join("report/report.json"));
+    let good = &report["calculations"][0]["density_check"];
+    let nuclei = good["nuclei"].as_array().unwrap();
+    assert_eq!(nuclei.len(), 3, "O and both H found");
+    assert!(nuclei.iter().all(|n| !n["atom"].is_null()));
+    assert!(good["orbital_sum"]["integrated_abs_difference"].as_f64().unwrap() < 1e-3);
+    // Water's orbitals against lithium hydride's density: on another grid, flagged, not fatal.
+    let bad = &report["calculations"][1]["density_check"];
+    let flags: Vec<&str> = bad["flags"].as_array().unwrap().iter().map(|f| f.as_str().unwrap()).collect();
+    assert!(flags.iter().any(|f| f.starts_with("orbital-")), "{flags:?}");
+    let md = std::fs::read_to_string(dir.path().join("report/report.md")).unwrap();
+    assert!(md.contains("Density check") && md.contains("3 of 3 listed atoms found"), "{md}");
+
+    // A density pattern must name one file.
+    std::fs::write(dir.path().join("two.yaml"), format!("calculations:\n  - name: w\n    files: ['{0}/water/orbital_001.cube.gz']\n    density: '{0}/*/density.cube.gz'\nmodels: [lsda]\n", r.display())).unwrap();
+    let run = sixray(&["batch", "two.yaml"], dir.path());
+    assert_eq!(run.status.code(), Some(2));
+    assert!(stderr(&run).contains("density must name one file"), "{}", stderr(&run));
+}
