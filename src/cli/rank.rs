@@ -153,6 +153,9 @@ pub fn run(args: RankArgs) -> anyhow::Result<Status> {
     for f in &outcome.failures {
         eprintln!("sixray: error: {}", f.error);
     }
+    for w in outcome.ranking.orbitals.iter().filter_map(|o| report::kind_warning(o, load.kind)) {
+        eprintln!("sixray: warning: {w}");
+    }
     let report = Report { models: engine.models(), outcome: &outcome, top: args.top };
     let text = match args.format {
         Format::Table => report::text::render_table(&report, args.units),

@@ -118,6 +118,19 @@ pub fn flags_text(o: &OrbitalReport) -> String {
     }
 }
 
+/// A warning with its fix for an orbital whose values look like the other kind, read as `kind`.
+pub fn kind_warning(o: &OrbitalReport, kind: crate::diagnostics::Kind) -> Option<String> {
+    use crate::diagnostics::{Flag, Kind};
+    if !o.flags.contains(&Flag::KindSuspicious) {
+        return None;
+    }
+    let (seen, fix) = match kind {
+        Kind::Amplitude => ("the values themselves integrate to one electron, as densities do", "--kind density"),
+        Kind::Density => ("the squares of the values integrate to one electron, as amplitudes do", "--kind amplitude"),
+    };
+    Some(format!("{} ({}): {seen}; if the file holds {}, read it with {fix}", o.label, o.source, &fix[7..]))
+}
+
 impl FromStr for EnergyUnit {
     type Err = String;
     fn from_str(s: &str) -> Result<Self, String> {

@@ -207,6 +207,10 @@ fn units_kinds_and_occupations_of_synthetic_files_agree() {
     assert!((ang - bohr).abs() < 1e-5 * want, "{ang} vs {bohr}");
     let (dens, _) = j(&["rank", "-f", "json", "--kind", "density", "dens.cube"]);
     assert!((dens - bohr).abs() < 1e-5 * want, "{dens} vs {bohr}");
+    // A density read as amplitudes is flagged, with the fix on standard error.
+    let wrong = sixray(&["rank", "-f", "json", "dens.cube"], p);
+    assert!(json(&wrong)["orbitals"][0]["flags"].as_array().unwrap().iter().any(|f| f == "kind-suspicious"));
+    assert!(stderr(&wrong).contains("read it with --kind density"), "{}", stderr(&wrong));
     // Half an electron: a quarter of J, half the norm.
     let (half, half_norm) = j(&["rank", "-f", "json", "--occupation", "0.5", "bohr.cube"]);
     assert!((half - 0.25 * bohr).abs() < 1e-12 && (half_norm - 0.5 * norm).abs() < 1e-12);
