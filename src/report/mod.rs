@@ -124,11 +124,11 @@ pub fn kind_warning(o: &OrbitalReport, kind: crate::diagnostics::Kind) -> Option
     if !o.flags.contains(&Flag::KindSuspicious) {
         return None;
     }
-    let (seen, fix) = match kind {
-        Kind::Amplitude => ("the values themselves integrate to one electron, as densities do", "--kind density"),
-        Kind::Density => ("the squares of the values integrate to one electron, as amplitudes do", "--kind amplitude"),
+    let (seen, other) = match kind {
+        Kind::Amplitude => ("the values themselves integrate to one electron, as densities do", ("densities", "density")),
+        Kind::Density => ("the squares of the values integrate to one electron, as amplitudes do", ("amplitudes", "amplitude")),
     };
-    Some(format!("{} ({}): {seen}; if the file holds {}, read it with {fix}", o.label, o.source, &fix[7..]))
+    Some(format!("{} ({}): {seen}; if the file holds {}, read it with --kind {}", o.label, o.source, other.0, other.1))
 }
 
 impl FromStr for EnergyUnit {
