@@ -14,6 +14,7 @@
 //! where `g_i` is the number of spin-orbitals a record stands for (2 for a restricted spatial
 //! orbital). The exact functional has δ_i = 0 for every one-electron density.
 
+use crate::cusp::{self, CuspModel};
 use crate::gradient::{GradientParams, gradient_squared};
 use crate::grid::{GridGeometry, Nucleus};
 use crate::par::Parallelism;
@@ -152,6 +153,8 @@ pub struct OrbitalReport {
     pub errors: Option<OrbitalErrors>,
     /// Reasons not to trust the numbers; empty when all is well.
     pub flags: Vec<Flag>,
+    /// What the cusp correction changed (`None` when none was applied).
+    pub cusp_correction: Option<CuspCorrection>,
 }
 
 /// Error bars of one orbital's energies: non-negative, hartree.
@@ -233,6 +236,8 @@ pub struct EngineParams {
     pub solver_cache: usize,
     /// Error bars and checks.
     pub trust: crate::trust::TrustParams,
+    /// Correct grid sums for the cusps at the nuclei the files list.
+    pub cusp_correction: bool,
 }
 
 impl Default for EngineParams {
@@ -242,6 +247,7 @@ impl Default for EngineParams {
             gradient: GradientParams::default(),
             solver_cache: 8,
             trust: crate::trust::TrustParams::default(),
+            cusp_correction: true,
         }
     }
 }
@@ -292,12 +298,25 @@ impl Engine {
         cell.get_or_init(|| Arc::new(HartreeSolver::new(geometry, &self.params.hartree, par))).clone()
     }
 
-    /// Plain grid sums of one orbital: norm, J and each model's energies.
-    pub(crate) fn grid_sums(&self, orbital: &GridOrbital, par: Parallelism) -> Result<GridSums, DiagnosticsError> {
+    /// Grid sums of one orbital: norm, J and each model's energies, cusp-corrected when the
+    /// engine is set so and the orbital has s character at a listed nucleus. With `detail`, the
+    /// uncorrected J is computed as well (one more transform), to report the correction's size.
+    pub(crate) fn grid_sums(&self, orbital: &GridOrbital, par: Parallelism, detail: bool) -> Result<GridSums, DiagnosticsError> {
         let w = orbital.geometry.voxel_volume();
         let rho = orbital.density();
         let norm = w * par.chunked_sum(rho.len(), |r| rho[r].iter().sum());
-        let hartree = self.solver(&orbital.geometry, par).self_energy(&rho, par)?;
+        let cusps: Vec<CuspModel> = if self.params.cusp_correction {
+            orbital.nuclei.iter().filter_map(|n| CuspModel::fit(orbital, n)).collect()
+        } else {
+            Vec::new()
+        };
+        let plain_hartree = || self.solver(&orbital.geometry, par).self_energy(&rho, par);
+        let (hartree, plain) = if cusps.is_empty() {
+            (plain_hartree()?, None)
+        } else {
+            let corrected = cusp::hartree(self, &orbital.geometry, &rho, &cusps, par)?;
+            (corrected, if detail { Some(plain_hartree()?) } else { None })
+        };
 
         // Gradients only when some model reads them; τ of one orbital follows from them.
         let needs_gradient = self.models.iter().any(|m| m.family() >= Family::Gga);
@@ -307,19 +326,34 @@ impl Engine {
         let mut energy = |f: &dyn Functional| -> f64 {
             *cache.entry((f.part(), f.id())).or_insert_with(|| w * grid_sum(f, &rho, grad_sq.as_deref(), par))
         };
-        let lsda_exchange = energy(&XAlpha::lsda());
-        let models = self
+        let mut lsda_exchange = energy(&XAlpha::lsda());
+        let mut models: Vec<(f64, f64)> = self
             .models
             .iter()
             .map(|m| (energy(m.exchange.as_ref()), m.correlation.as_deref().map_or(0.0, &mut energy)))
             .collect();
-        Ok(GridSums { norm, hartree, lsda_exchange, models, rho, grad_sq })
+        let correction = (!cusps.is_empty()).then(|| {
+            // Subtract the grid's error on each cusp model; LSDA exchange (for α*) likewise.
+            let lsda = [Model::from_name("lsda-x").expect("built-in")];
+            let mut applied = CuspCorrection { nuclei: cusps.len(), hartree: plain.map(|p| hartree - p), models: vec![(0.0, 0.0); models.len()] };
+            for c in &cusps {
+                for (k, (dx, dc)) in cusp::xc_deviation(c, self, orbital).into_iter().enumerate() {
+                    models[k].0 -= dx;
+                    models[k].1 -= dc;
+                    applied.models[k].0 -= dx;
+                    applied.models[k].1 -= dc;
+                }
+                lsda_exchange -= cusp::xc_deviation_for(c, self, orbital, &lsda)[0].0;
+            }
+            applied
+        });
+        Ok(GridSums { norm, hartree, lsda_exchange, models, rho, grad_sq, cusp: correction })
     }
 
     /// Analyses one spin-orbital: its energies and, unless switched off, their error bars and
     /// flags (see [`crate::trust`]).
     pub fn analyse(&self, orbital: &GridOrbital, par: Parallelism) -> Result<OrbitalReport, DiagnosticsError> {
-        let sums = self.grid_sums(orbital, par)?;
+        let sums = self.grid_sums(orbital, par, true)?;
         let hartree = sums.hartree;
         let models = sums
             .models
@@ -344,6 +378,7 @@ impl Engine {
             lost_charge: 0.0,
             errors: None,
             flags: Vec::new(),
+            cusp_correction: sums.cusp.clone(),
         };
         check_finite(&report, &self.models)?;
         if self.params.trust.error_bars {
@@ -367,6 +402,19 @@ pub(crate) struct GridSums {
     pub rho: Vec<f64>,
     /// |∇n|² at every grid point, where some model needs it.
     pub grad_sq: Option<Vec<f64>>,
+    /// The cusp correction applied, if any.
+    pub cusp: Option<CuspCorrection>,
+}
+
+/// What the cusp correction changed in one orbital's energies (corrected minus plain), hartree.
+#[derive(Clone, Debug, PartialEq, Serialize, Deserialize)]
+pub struct CuspCorrection {
+    /// Nuclei at which the orbital has a cusp model.
+    pub nuclei: usize,
+    /// Change of J (`None` where the plain value was not computed).
+    pub hartree: Option<f64>,
+    /// Per model: change of exchange and of correlation.
+    pub models: Vec<(f64, f64)>,
 }
 
 /// Σ_points e(n_i, 0) over the grid, hartree/bohr³, with `grad_sq` = |∇n_i|² where the

@@ -149,7 +149,7 @@ pub(crate) fn det(m: &[[f64; 3]; 3]) -> f64 {
     dot(&m[0], &c)
 }
 
-pub(crate) fn dot(a: &[f64; 3], b: &[f64; 3]) -> f64 {
+pub fn dot(a: &[f64; 3], b: &[f64; 3]) -> f64 {
     a[0] * b[0] + a[1] * b[1] + a[2] * b[2]
 }
 

@@ -12,6 +12,7 @@
 pub mod batch;
 pub mod cache;
 pub mod calculation;
+pub mod cusp;
 pub mod diagnostics;
 pub mod gradient;
 pub mod grid;

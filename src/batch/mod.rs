@@ -53,7 +53,10 @@ pub const CACHE_DIR: &str = ".sixray-cache";
 
 /// Runs every calculation of `workflow`.
 pub fn run(workflow: &Workflow, params: &BatchParams, progress: &dyn Progress) -> Vec<CalculationResult> {
-    let engine = Engine::new(workflow.models.clone(), EngineParams { trust: workflow.trust.clone(), ..params.engine.clone() });
+    let engine = Engine::new(
+        workflow.models.clone(),
+        EngineParams { trust: workflow.trust.clone(), cusp_correction: workflow.cusp_correction, ..params.engine.clone() },
+    );
     let cache = if workflow.cache {
         match ResultCache::open(&workflow.report.dir.join(CACHE_DIR), !params.fresh) {
             Ok(c) => Some(c),

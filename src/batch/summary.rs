@@ -157,6 +157,7 @@ mod tests {
             lost_charge: 0.0,
             errors: None,
             flags: Vec::new(),
+            cusp_correction: None,
         }
     }
 

@@ -23,6 +23,7 @@
 //!   cache: true                      # reuse finished orbitals from earlier runs
 //!   error_bars: true                 # error bars and checks for every orbital
 //!   tolerance: 1.6                   # largest acceptable error bar, millihartree
+//!   cusp_correction: true            # cusp models at the nuclei the files list
 //! ```
 //!
 //! The whole file is checked before anything runs. Checks that need more than the value itself
@@ -110,6 +111,8 @@ pub struct Workflow {
     pub cache: bool,
     /// Error bars and checks.
     pub trust: TrustParams,
+    /// Cusp-corrected quadrature at the nuclei the files list.
+    pub cusp_correction: bool,
 }
 
 /// What the custom deserialisers need to know: where relative paths start, which models exist.
@@ -339,6 +342,8 @@ struct OptionsSpec {
     error_bars: bool,
     #[serde(default)]
     tolerance: Option<Tolerance>,
+    #[serde(default = "yes")]
+    cusp_correction: bool,
 }
 
 fn yes() -> bool {
@@ -347,7 +352,7 @@ fn yes() -> bool {
 
 impl Default for OptionsSpec {
     fn default() -> Self {
-        OptionsSpec { threads: None, rank_by: None, cache: true, error_bars: true, tolerance: None }
+        OptionsSpec { threads: None, rank_by: None, cache: true, error_bars: true, tolerance: None, cusp_correction: true }
     }
 }
 
@@ -458,6 +463,7 @@ impl Workflow {
                 error_bars: file.options.error_bars,
                 tolerance: file.options.tolerance.map_or(TrustParams::default().tolerance, |t| t.0 * 1e-3),
             },
+            cusp_correction: file.options.cusp_correction,
         })
     }
 }

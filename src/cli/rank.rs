@@ -69,6 +69,10 @@ pub struct RankArgs {
     #[arg(long)]
     no_error_bars: bool,
 
+    /// Use plain grid sums at the nuclei the files list (no cusp models).
+    #[arg(long)]
+    no_cusp_correction: bool,
+
     /// Exit with status 3 (after writing the report) if any orbital's |δ| under the --rank-by
     /// model exceeds THRESHOLD, given in --units (millihartree by default).
     #[arg(long, value_name = "THRESHOLD")]
@@ -148,7 +152,8 @@ pub fn run(args: RankArgs) -> anyhow::Result<Status> {
         bail!("--tolerance must be a positive number of millihartree");
     }
     let trust = TrustParams { error_bars: !args.no_error_bars, tolerance: args.tolerance * 1e-3 };
-    let engine = Engine::new(models, EngineParams { trust, ..EngineParams::default() });
+    let params = EngineParams { trust, cusp_correction: !args.no_cusp_correction, ..EngineParams::default() };
+    let engine = Engine::new(models, params);
     let outcome = analyse_files(&args.files, &load, &engine, rank_by);
     for f in &outcome.failures {
         eprintln!("sixray: error: {}", f.error);

@@ -3,7 +3,7 @@
 use super::Report;
 
 /// Column names, in order.
-pub const COLUMNS: [&str; 20] = [
+pub const COLUMNS: [&str; 23] = [
     "rank",
     "source",
     "label",
@@ -24,6 +24,9 @@ pub const COLUMNS: [&str; 20] = [
     "cancellation",
     "flags",
     "checked",
+    "cusp_hartree",
+    "cusp_exchange",
+    "cusp_correlation",
 ];
 
 /// A field quoted where RFC 4180 requires it.
@@ -41,7 +44,7 @@ pub fn render(report: &Report) -> String {
 /// Appends one line per (shown orbital, model), each starting with the `leading` cells (already
 /// quoted where needed).
 pub fn rows(report: &Report, leading: &[String], out: &mut String) {
-    // Error bars are empty cells where they were not computed.
+    // Error bars and cusp corrections are empty cells where there are none.
     let opt = |v: Option<f64>| v.map_or(String::new(), |v| v.to_string());
     for (i, o) in report.shown().iter().enumerate() {
         let flags = o.flags.iter().map(|f| f.as_str()).collect::<Vec<_>>().join(";");
@@ -68,6 +71,9 @@ pub fn rows(report: &Report, leading: &[String], out: &mut String) {
                 e.cancellation.to_string(),
                 flags.clone(),
                 o.errors.is_some().to_string(),
+                opt(o.cusp_correction.as_ref().and_then(|c| c.hartree)),
+                opt(o.cusp_correction.as_ref().map(|c| c.models[k].0)),
+                opt(o.cusp_correction.as_ref().map(|c| c.models[k].1)),
             ];
             let line: Vec<&str> = leading.iter().map(String::as_str).chain(cells.iter().map(String::as_str)).collect();
             out.push_str(&line.join(","));

@@ -7,7 +7,9 @@
 //!                  "hartree", "optimal_alpha", "models": {MODEL: {"exchange", "correlation",
 //!                  "self_interaction", "cancellation"}},
 //!                  "errors": {"hartree", "models": {MODEL: {"exchange", "correlation",
-//!                  "self_interaction"}}} or null, "flags": [FLAG]} ],   // worst first
+//!                  "self_interaction"}}} or null, "flags": [FLAG],
+//!                  "cusp_correction": {"nuclei", "hartree", "models": {MODEL: {"exchange",
+//!                  "correlation"}}} or null} ],   // worst first; corrections: corrected − plain
 //!   "totals": {MODEL: {"perdew_zunger", "mean_cancellation"}}, "spin_orbitals": N,
 //!   "failures": [{"source", "error"}] }
 //! ```
@@ -67,6 +69,13 @@ pub fn orbitals(report: &Report) -> Vec<Value> {
                 "models": per_model,
                 "errors": errors,
                 "flags": o.flags.iter().map(|f| f.as_str()).collect::<Vec<_>>(),
+                "cusp_correction": o.cusp_correction.as_ref().map(|c| json!({
+                    "nuclei": c.nuclei,
+                    "hartree": c.hartree,
+                    "models": report.models.iter().zip(&c.models).map(|(m, d)| {
+                        (m.name.clone(), json!({"exchange": d.0, "correlation": d.1}))
+                    }).collect::<Map<_, _>>(),
+                })),
             })
         })
         .collect()

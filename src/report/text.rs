@@ -180,6 +180,7 @@ pub fn markdown_orbitals(report: &Report, unit: EnergyUnit) -> String {
         }
     }
     t.push("flags".into(), false);
+    t.push(format!("cusp ΔJ ({})", unit.symbol()), true);
     for (i, o) in report.shown().iter().enumerate() {
         let mut row = orbital_cells(i + 1, o, unit);
         for (m, e) in o.models.iter().enumerate() {
@@ -188,6 +189,7 @@ pub fn markdown_orbitals(report: &Report, unit: EnergyUnit) -> String {
             row.push(format!("{:.4}", e.cancellation));
         }
         row.push(flags_text(o));
+        row.push(o.cusp_correction.as_ref().and_then(|c| c.hartree).map_or("—".into(), |d| unit.format(d)));
         t.rows.push(row);
     }
     t.markdown()

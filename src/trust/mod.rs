@@ -36,10 +36,10 @@
 //! and libxc on a fine Becke grid) these bars bracket the reference for the share of orbitals and
 //! models the README states, and stay below 1 % of J for orbitals the grid resolves.
 
-mod cusp;
 mod sublattice;
 mod truncation;
 
+use crate::cusp::{self, CuspModel};
 use crate::diagnostics::{DiagnosticsError, Engine, Flag, GridOrbital, GridSums, Kind, ModelErrors, OrbitalErrors, OrbitalReport};
 use crate::par::Parallelism;
 use crate::xc::{Family, Functional};
@@ -62,8 +62,11 @@ impl Default for TrustParams {
 
 /// Registration spreads are divided by this (see the module docs).
 const REGISTRATION_DIVISOR: f64 = 4.0;
-/// The cusp model's quadrature error is multiplied by this (a first-order model).
+/// Without cusp correction, the cusp model's quadrature error is multiplied by this (a
+/// first-order model).
 const CUSP_FACTOR: f64 = 2.0;
+/// With cusp correction, this fraction of each correction is taken as its uncertainty.
+const CUSP_RESIDUAL: f64 = 0.25;
 /// Relative error bar floors (see the module docs): J and local functionals…
 const FLOOR_LOCAL: f64 = 1e-3;
 /// …and functionals of the gradient.
@@ -88,6 +91,27 @@ impl Deviation {
     fn self_interaction(&self, m: usize) -> f64 {
         self.hartree + self.models[m].0 + self.models[m].1
     }
+
+    /// For δ: the signed sum (errors of an uncorrected grid partly cancel), or with `separate`
+    /// the sum of magnitudes (what is left after a correction need not cancel).
+    fn self_interaction_bound(&self, m: usize, separate: bool) -> f64 {
+        if separate { self.hartree.abs() + self.models[m].0.abs() + self.models[m].1.abs() } else { self.self_interaction(m) }
+    }
+}
+
+/// The grid's error on the cusps of an uncorrected orbital, estimated on cusp models: every
+/// functional's error on the windowed model, and for J the first-order `δq · v(R_A)`.
+fn uncorrected_cusp_error(engine: &Engine, orbital: &GridOrbital, sums: &GridSums) -> Deviation {
+    let mut total = Deviation::zero(engine.models().len());
+    for model in orbital.nuclei.iter().filter_map(|n| CuspModel::fit(orbital, n)) {
+        let g = &orbital.geometry;
+        total.hartree += cusp::charge_deviation(&model, g) * cusp::potential_at(g, &sums.rho, model.position);
+        for (t, d) in total.models.iter_mut().zip(cusp::xc_deviation(&model, engine, orbital)) {
+            t.0 += d.0;
+            t.1 += d.1;
+        }
+    }
+    total
 }
 
 /// Adds error bars, the lost charge and flags to `report`.
@@ -100,22 +124,19 @@ pub(crate) fn assess(
 ) -> Result<(), DiagnosticsError> {
     let models = engine.models().len();
     let registration = sublattice::spreads(engine, orbital, sums, par)?;
-    let cusp = orbital
-        .nuclei
-        .iter()
-        .filter_map(|n| cusp::CuspModel::fit(orbital, n))
-        .map(|c| c.deviation(engine, orbital, sums))
-        .fold(Deviation::zero(models), |mut acc, d| {
-            acc.hartree += d.hartree;
-            for (a, b) in acc.models.iter_mut().zip(&d.models) {
-                a.0 += b.0;
-                a.1 += b.1;
-            }
-            acc
-        });
+    let (cusp, cusp_factor) = match &sums.cusp {
+        // Corrected: what remains is a fraction of the correction.
+        Some(applied) => (
+            Deviation { hartree: applied.hartree.unwrap_or(0.0), models: applied.models.clone() },
+            CUSP_RESIDUAL,
+        ),
+        None if engine.params().cusp_correction => (Deviation::zero(models), 0.0),
+        // Not corrected: the grid's error on the cusps, estimated on the models.
+        None => (uncorrected_cusp_error(engine, orbital, sums), CUSP_FACTOR),
+    };
     let tail = truncation::Tail::estimate(engine, orbital, sums);
 
-    let bar = |reg: f64, cusp: f64, tail: f64, floor: f64| reg / REGISTRATION_DIVISOR + CUSP_FACTOR * cusp.abs() + tail.abs() + floor;
+    let bar = |reg: f64, cusp: f64, tail: f64, floor: f64| reg / REGISTRATION_DIVISOR + cusp_factor * cusp.abs() + tail.abs() + floor;
     let floor = |f: Option<&dyn Functional>, value: f64| {
         let rate = if f.is_some_and(|f| f.family() >= Family::Gga) { FLOOR_GRADIENT } else { FLOOR_LOCAL };
         rate * value.abs()
@@ -136,7 +157,7 @@ pub(crate) fn assess(
                     correlation: bar(registration.models[m].1, cusp.models[m].1, tail.deviation.models[m].1, c_floor),
                     self_interaction: bar(
                         registration.self_interaction[m],
-                        cusp.self_interaction(m),
+                        cusp.self_interaction_bound(m, cusp_factor == CUSP_RESIDUAL),
                         tail.deviation.self_interaction(m),
                         hartree_floor + x_floor + c_floor,
                     ),
@@ -150,9 +171,9 @@ pub(crate) fn assess(
     let mut flags = Vec::new();
     // Resolution: the grid-dependent parts of the bars (the tail has its own flag, and the
     // residual is the same on any grid).
-    let resolution = |reg: f64, cusp: f64| reg / REGISTRATION_DIVISOR + CUSP_FACTOR * cusp.abs();
+    let resolution = |reg: f64, cusp: f64| reg / REGISTRATION_DIVISOR + cusp_factor * cusp.abs();
     let worst_resolution = (0..models)
-        .map(|m| resolution(registration.self_interaction[m], cusp.self_interaction(m)))
+        .map(|m| resolution(registration.self_interaction[m], cusp.self_interaction_bound(m, cusp_factor == CUSP_RESIDUAL)))
         .fold(resolution(registration.hartree, cusp.hartree), f64::max);
     if worst_resolution > tolerance {
         flags.push(Flag::UnderResolved);

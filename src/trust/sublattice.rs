@@ -40,7 +40,7 @@ pub(super) fn spreads(engine: &Engine, o: &GridOrbital, sums: &GridSums, par: Pa
     let offsets: Vec<[usize; 3]> = (0..8).map(|k| [k >> 2, (k >> 1) & 1, k & 1]).collect();
     // Sub-lattices run side by side, each on one thread, when the caller allows threads.
     let results = par.map(offsets.len(), |k| match sublattice(o, offsets[k]) {
-        Some(sub) => engine.grid_sums(&sub, Parallelism::Sequential).map(Some),
+        Some(sub) => engine.grid_sums(&sub, Parallelism::Sequential, false).map(Some),
         None => Ok(None),
     });
     let mut s = Spreads { hartree: 0.0, models: vec![(0.0, 0.0); models], self_interaction: vec![0.0; models] };

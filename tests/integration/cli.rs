@@ -145,12 +145,13 @@ fn formats_units_top_and_output_file() {
     assert_eq!(
         lines[0],
         "rank,source,label,spin,occupation,norm,lost_charge,hartree,hartree_error,optimal_alpha,model,exchange,\
-         exchange_error,correlation,correlation_error,self_interaction,self_interaction_error,cancellation,flags,checked"
+         exchange_error,correlation,correlation_error,self_interaction,self_interaction_error,cancellation,flags,checked,\
+         cusp_hartree,cusp_exchange,cusp_correlation"
     );
     // Error bars are there unless switched off.
-    assert!(lines[1].ends_with(",true") && !lines[1].contains(",,"), "{}", lines[1]);
-    let bare = stdout(&sixray(&["rank", "-f", "csv", "--no-error-bars", f], dir.path()));
-    assert!(bare.lines().nth(1).unwrap().ends_with(",false"), "{bare}");
+    assert!(lines[1].contains(",true,") && !lines[1].contains(",,"), "{}", lines[1]);
+    let bare = stdout(&sixray(&["rank", "-f", "csv", "--no-error-bars", "--no-cusp-correction", f], dir.path()));
+    assert!(bare.lines().nth(1).unwrap().ends_with(",false,,,"), "{bare}");
     assert_eq!(lines.len(), 3, "one row per orbital and model: {csv}");
 
     // --top limits the rows, not the totals; --output writes the same text atomically.
@@ -346,4 +347,29 @@ fn fail_above_gates_a_pipeline_with_status_three() {
     let err = stderr(&over);
     assert!(err.contains("1 orbital(s) with |δ| above") && err.contains(all["orbitals"][0]["label"].as_str().unwrap()), "{err}");
     assert_eq!(run("-1", "hartree").status.code(), Some(2));
+}
+
+#[test]
+fn cusp_correction_is_reported_and_can_be_switched_off() {
+    let dir = tempfile::tempdir().unwrap();
+    let f = samples().join("water/occupied.cube.gz");
+    let f = f.to_str().unwrap();
+    let on = json(&sixray(&["rank", "-f", "json", "--no-error-bars", f], dir.path()));
+    let off = json(&sixray(&["rank", "-f", "json", "--no-error-bars", "--no-cusp-correction", f], dir.path()));
+    let find = |v: &Value, label: &str| v["orbitals"].as_array().unwrap().iter().find(|o| o["label"] == label).unwrap().clone();
+    // The oxygen 1s: a cusp model at the oxygen, and J changed by exactly the reported amount.
+    let (core_on, core_off) = (find(&on, "occupied#1"), find(&off, "occupied#1"));
+    let c = &core_on["cusp_correction"];
+    assert!(c["nuclei"].as_u64().unwrap() >= 1, "{c}");
+    let dj = c["hartree"].as_f64().unwrap();
+    assert!(dj.abs() > 1e-3, "the coarse demo grid needs a sizeable correction: {dj}");
+    let (j_on, j_off) = (core_on["hartree"].as_f64().unwrap(), core_off["hartree"].as_f64().unwrap());
+    assert!((j_on - j_off - dj).abs() < 1e-12, "{j_on} − {j_off} vs {dj}");
+    let dx = c["models"]["lsda"]["exchange"].as_f64().unwrap();
+    let (x_on, x_off) = (core_on["models"]["lsda"]["exchange"].as_f64().unwrap(), core_off["models"]["lsda"]["exchange"].as_f64().unwrap());
+    assert!((x_on - x_off - dx).abs() < 1e-12);
+    assert!(core_off["cusp_correction"].is_null());
+    // A p-like orbital (1b1, no s character at any nucleus) is left alone.
+    let p_on = find(&on, "occupied#5");
+    assert!(p_on["cusp_correction"].is_null() || p_on["cusp_correction"]["hartree"].as_f64().unwrap().abs() < 1e-4, "{}", p_on["cusp_correction"]);
 }

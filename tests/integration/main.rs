@@ -4,6 +4,7 @@
 mod batch;
 mod cli;
 mod common;
+mod cusp;
 mod functionals;
 mod inspect;
 mod reference;
