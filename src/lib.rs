@@ -17,6 +17,7 @@ pub mod diagnostics;
 pub mod gradient;
 pub mod grid;
 pub mod input;
+pub mod molgrid;
 pub mod inspect;
 pub mod par;
 pub mod poisson;
