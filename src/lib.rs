@@ -17,6 +17,7 @@ pub mod diagnostics;
 pub mod gradient;
 pub mod grid;
 pub mod input;
+pub mod localize;
 pub mod molgrid;
 pub mod inspect;
 pub mod par;
