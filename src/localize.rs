@@ -289,15 +289,8 @@ mod tests {
         };
         let n = 6;
         let d: [Vec<Vec<f64>>; 3] = [0, 1, 2].map(|_| {
-            let mut m = vec![vec![0.0; n]; n];
-            for i in 0..n {
-                for j in i..n {
-                    let v = rnd();
-                    m[i][j] = v;
-                    m[j][i] = v;
-                }
-            }
-            m
+            let upper: Vec<Vec<f64>> = (0..n).map(|i| (0..n).map(|j| if j >= i { rnd() } else { 0.0 }).collect()).collect();
+            (0..n).map(|i| (0..n).map(|j| if j >= i { upper[i][j] } else { upper[j][i] }).collect()).collect::<Vec<Vec<f64>>>()
         });
         let loc = boys(&d, &LocalizeParams::default());
         assert!(loc.converged, "{} sweeps", loc.sweeps);
