@@ -14,7 +14,7 @@
 //!   - {name: xa-vwn, exchange: xalpha, alpha: 0.7, correlation: vwn5}
 //! report:                            # optional
 //!   dir: out                         # relative to this file unless absolute (default: report)
-//!   formats: [markdown, csv, json]   # default: all three
+//!   formats: [markdown, csv, json, html]  # default: all four
 //!   units: millihartree              # for the Markdown tables
 //!   worst: 20                        # worst orbitals listed across the set
 //! options:                           # optional
@@ -62,6 +62,8 @@ pub enum ReportFormat {
     Csv,
     /// `report.json`.
     Json,
+    /// `report.html`.
+    Html,
 }
 
 /// One calculation of the test set, resolved.
@@ -90,6 +92,8 @@ pub struct ReportSettings {
     pub units: EnergyUnit,
     /// Worst orbitals listed across the set.
     pub worst: usize,
+    /// Date printed in `report.html` (`None`: the newest modification date among the inputs).
+    pub date: Option<crate::report::html::ReportDate>,
 }
 
 /// A checked workflow, ready to run.
@@ -305,7 +309,7 @@ fn default_dir() -> PathBuf {
     PathBuf::from("report")
 }
 fn default_formats() -> Vec<ReportFormat> {
-    vec![ReportFormat::Markdown, ReportFormat::Csv, ReportFormat::Json]
+    vec![ReportFormat::Markdown, ReportFormat::Csv, ReportFormat::Json, ReportFormat::Html]
 }
 fn default_worst() -> usize {
     20
@@ -450,6 +454,7 @@ impl Workflow {
             formats: file.report.formats,
             units: file.report.units.map_or(EnergyUnit::default(), |u| u.0),
             worst: file.report.worst,
+            date: None,
         };
         Ok(Workflow {
             path: path.to_path_buf(),
@@ -496,7 +501,7 @@ mod tests {
         assert_eq!(c.load.kind, Kind::Amplitude);
         assert_eq!(c.load.spin, SpinRule::FromName);
         assert_eq!(w.report.dir, dir.path().join("report"));
-        assert_eq!(w.report.formats.len(), 3);
+        assert_eq!(w.report.formats, [ReportFormat::Markdown, ReportFormat::Csv, ReportFormat::Json, ReportFormat::Html]);
         assert_eq!((w.report.units, w.report.worst, w.cache, w.threads), (EnergyUnit::Millihartree, 20, true, None));
         assert_eq!((w.models.len(), w.rank_by), (1, 0));
     }

@@ -9,6 +9,7 @@ use sixray::batch::summary::SetSummary;
 use sixray::batch::{BatchParams, Workflow, jobs, run};
 use sixray::calculation::count_orbitals;
 use sixray::report::batch::{BatchReport, write};
+use sixray::report::html::ReportDate;
 use std::path::PathBuf;
 
 #[derive(Debug, Args)]
@@ -28,6 +29,11 @@ pub struct BatchArgs {
     /// No progress messages.
     #[arg(short, long)]
     quiet: bool,
+
+    /// Date shown in report.html (default: the newest modification date among the workflow
+    /// file and its grid files, so that a rerun writes the same bytes).
+    #[arg(long, value_name = "YYYY-MM-DD")]
+    date: Option<ReportDate>,
 }
 
 /// Checks the workflow (exit 2 if it is invalid), then runs it in a pool of `threads` (or the
@@ -43,6 +49,7 @@ pub fn run_batch(args: BatchArgs, threads: Option<usize>) -> anyhow::Result<Stat
     if let Some(dir) = args.out {
         workflow.report.dir = dir;
     }
+    workflow.report.date = args.date;
     let display = Display::new(count_orbitals(&jobs(&workflow)), args.quiet);
     let params = BatchParams { fresh: args.fresh, ..BatchParams::default() };
     let results = in_pool(threads.or(workflow.threads), || Ok(run(&workflow, &params, &display)))?;

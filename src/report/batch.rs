@@ -1,4 +1,5 @@
-//! Reports of a batch: `report.md`, `orbitals.csv` and `report.json` in the report directory.
+//! Reports of a batch: `report.md`, `orbitals.csv`, `report.json` and `report.html` (see
+//! [`super::html`]) in the report directory.
 //!
 //! The JSON layout (hartree throughout):
 //!
@@ -18,10 +19,11 @@
 //! ```
 //!
 //! Nothing in a report depends on timing or on the machine, so a rerun (from the cache or not)
-//! writes the same bytes.
+//! writes the same bytes. (`report.html` shows a date: the caller's, or the newest modification
+//! date among the input files, which a rerun does not change.)
 
 use super::text::{Table, markdown_failures, markdown_orbitals, markdown_totals};
-use super::{EnergyUnit, Report, csv, flags_text, json, write_atomic};
+use super::{EnergyUnit, Report, csv, flags_text, html, json, write_atomic};
 use crate::batch::summary::{ModelStats, SetSummary};
 use crate::batch::{CalculationResult, ReportFormat, Workflow};
 use serde_json::{Map, Value, json};
@@ -317,6 +319,10 @@ pub fn write(report: &BatchReport) -> std::io::Result<Vec<(ReportFormat, PathBuf
             ReportFormat::Markdown => ("report.md", render_markdown(report, settings.units)),
             ReportFormat::Csv => ("orbitals.csv", render_csv(report)),
             ReportFormat::Json => ("report.json", json::pretty(&to_value(report))),
+            ReportFormat::Html => {
+                let dated = html::Dated::for_workflow(report.workflow, settings.date);
+                ("report.html", html::render(report, settings.units, dated))
+            }
         };
         let path = settings.dir.join(name);
         write_atomic(&path, text.as_bytes())?;

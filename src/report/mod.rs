@@ -1,4 +1,5 @@
-//! Reports of a ranked calculation: a terminal table, Markdown, CSV and JSON.
+//! Reports of a ranked calculation: a terminal table, Markdown, CSV and JSON; of a batch, also
+//! a self-contained HTML page ([`html`]).
 //!
 //! JSON and CSV are for programs and always carry hartree; the table and Markdown are for people
 //! and use the chosen [`EnergyUnit`]. The JSON layout is documented in the README and kept
@@ -6,6 +7,7 @@
 
 pub mod batch;
 pub mod csv;
+pub mod html;
 pub mod json;
 pub mod text;
 

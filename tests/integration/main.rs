@@ -6,6 +6,7 @@ mod cli;
 mod common;
 mod cusp;
 mod functionals;
+mod html;
 mod inspect;
 mod reference;
 mod trust;
