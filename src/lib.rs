@@ -7,7 +7,10 @@
 //! - [`xc`] holds the exchange–correlation functionals and the named models;
 //! - [`diagnostics`] computes per-orbital self-energies and ranks them;
 //! - [`calculation`] runs the files of one calculation with failure isolation;
-//! - [`report`] renders results as a table, Markdown, CSV or JSON.
+//! - [`report`] renders results as a table, Markdown, CSV, JSON or (for a batch) HTML;
+//! - [`trust`] and [`cusp`] put error bars on grid results and correct them at the nuclei;
+//! - [`batch`] runs workflows; [`inspect`] checks total-density files; [`molgrid`] and
+//!   [`localize`] provide atom-centred quadrature and Boys localization.
 
 pub mod batch;
 pub mod cache;
