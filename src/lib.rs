@@ -2,6 +2,8 @@
 //!
 //! Units are atomic throughout the library: hartree, bohr, electrons. Reports convert for people.
 //!
+//! - [`basis`] reads Gaussian basis sets and orbitals (molden files), evaluates orbitals anywhere
+//!   and computes exact Hartree self-energies over the basis;
 //! - [`input`] turns grid files (read by the `sixray-parsers` crate) into orbital densities;
 //! - [`poisson`] computes free-space Coulomb energies on grids;
 //! - [`xc`] holds the exchange–correlation functionals and the named models;
@@ -9,6 +11,7 @@
 //! - [`calculation`] runs the files of one calculation with failure isolation;
 //! - [`report`] renders results as a table, Markdown, CSV or JSON.
 
+pub mod basis;
 pub mod batch;
 pub mod cache;
 pub mod calculation;

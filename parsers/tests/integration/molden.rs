@@ -7,8 +7,7 @@ use std::path::{Path, PathBuf};
 
 use crate::common::gzip;
 use sixray_parsers::{
-    LengthUnit, MoldenErrorKind, MoldenFile, MoldenFlag, MoldenSpin, ShellType, parse_molden,
-    read_molden,
+    LengthUnit, MoldenErrorKind, MoldenFile, MoldenFlag, MoldenSpin, ShellType, parse_molden, read_molden,
 };
 
 const SRC: &str = "synthetic.molden";
@@ -33,7 +32,11 @@ fn function_count(m: &MoldenFile, spherical: bool) -> usize {
 fn shared_molden_files() -> Option<Vec<PathBuf>> {
     let dir = Path::new(env!("CARGO_MANIFEST_DIR")).join("../../shared/reference");
     if !dir.is_dir() {
-        let _ = writeln!(std::io::stderr(), "skipped: shared data set not found at {}", dir.display());
+        let _ = writeln!(
+            std::io::stderr(),
+            "skipped: shared data set not found at {}",
+            dir.display()
+        );
         return None;
     }
     let mut out: Vec<PathBuf> = std::fs::read_dir(&dir)
@@ -87,7 +90,10 @@ fn shared_water_values_as_written() {
     let o = &m.basis[0];
     assert_eq!((o.atom, o.shells.len()), (1, 10));
     let s = &o.shells[0];
-    assert_eq!((s.shell_type, s.scale, s.primitives.len(), s.line), (ShellType::S, Some(1.0), 8, 9));
+    assert_eq!(
+        (s.shell_type, s.scale, s.primitives.len(), s.line),
+        (ShellType::S, Some(1.0), 8, 9)
+    );
     assert_eq!(s.primitives[0].exponent, 15330.0);
     assert_eq!(s.primitives[0].coefficient, 0.00052019830712555);
     assert_eq!(o.shells[9].shell_type, ShellType::F);
@@ -107,7 +113,12 @@ fn project_test_data() {
     ] {
         let m = read_molden(&dir.join(format!("{name}.molden"))).unwrap_or_else(|e| panic!("{e}"));
         assert_eq!(m.flags.iter().map(|f| f.0).collect::<Vec<_>>(), flags);
-        assert!(m.basis.iter().flat_map(|a| &a.shells).any(|s| s.shell_type == ShellType::G));
+        assert!(
+            m.basis
+                .iter()
+                .flat_map(|a| &a.shells)
+                .any(|s| s.shell_type == ShellType::G)
+        );
         let nao = function_count(&m, spherical);
         assert_eq!(nao, if spherical { 69 } else { 88 });
         assert!(m.orbitals.iter().all(|o| o.coefficients.len() == nao));
@@ -172,7 +183,10 @@ fn real_world_variations() {
     assert_eq!(m.atoms[1].position, [0.0, 0.7572, -0.4692]);
     assert_eq!(m.basis.len(), 2);
     let shells = &m.basis[0].shells;
-    assert_eq!(shells.iter().map(|s| s.shell_type).collect::<Vec<_>>(), [ShellType::S, ShellType::Sp, ShellType::D]);
+    assert_eq!(
+        shells.iter().map(|s| s.shell_type).collect::<Vec<_>>(),
+        [ShellType::S, ShellType::Sp, ShellType::D]
+    );
     assert_eq!(shells[0].primitives[0].exponent, 100.0);
     assert_eq!(shells[1].primitives[0].coefficient_p, Some(0.8));
     assert_eq!(shells[2].scale, None);
@@ -182,10 +196,16 @@ fn real_world_variations() {
     assert_eq!(m.orbitals.len(), 3);
     let o = &m.orbitals;
     assert_eq!(o[0].symmetry.as_deref(), Some("1a1"));
-    assert_eq!((o[0].energy, o[0].spin, o[0].occupation), (Some(-20.0), Some(MoldenSpin::Alpha), Some(2.0)));
+    assert_eq!(
+        (o[0].energy, o[0].spin, o[0].occupation),
+        (Some(-20.0), Some(MoldenSpin::Alpha), Some(2.0))
+    );
     assert_eq!(o[0].coefficients, [(1, 0.5), (2, -0.25), (5, -0.125)]);
     assert_eq!(o[0].coefficient_lines, [32, 33, 34]);
-    assert_eq!((o[1].symmetry.as_deref(), o[1].energy, o[1].spin, o[1].occupation), (None, Some(0.5), None, None));
+    assert_eq!(
+        (o[1].symmetry.as_deref(), o[1].energy, o[1].spin, o[1].occupation),
+        (None, Some(0.5), None, None)
+    );
     assert_eq!(o[1].line, 36);
     assert_eq!((o[2].symmetry.as_deref(), o[2].spin), (None, Some(MoldenSpin::Beta)));
     assert_eq!(o[2].coefficients, [(4, 1.0e-3)]);
@@ -218,19 +238,71 @@ fn error_with(line: usize, text: &str) -> String {
 #[test]
 fn errors_name_file_line_and_expectation() {
     let cases: [(usize, &str, &str); 13] = [
-        (5, "[Atoms] (furlongs)", "synthetic.molden:5: expected the unit after [Atoms]: (AU) or (Angs), found \"(furlongs)\""),
-        (6, "O1  1  8  0.0  0.0", "synthetic.molden:6: expected z (a number), found end of line"),
-        (7, "H   2  1  0.0  0.7572  -0.4692X0", "synthetic.molden:7: expected z (a number), found \"-0.4692X0\""),
-        (7, "H   2  1.5  0.0  0.7572  -0.4692", "synthetic.molden:7: expected the atomic number (an integer), found \"1.5\""),
-        (13, " S 99 1.00", "synthetic.molden:13: bad number of primitives (expected 1 to 31, the lines left in the file), found 99"),
-        (13, " x 2 1.00", "synthetic.molden:13: expected a shell line (s, p, sp, d, f, g, h or i, then the primitive count), an atom line or a blank line, found \"x 2 1.00\""),
-        (14, "   1.0D+02", "synthetic.molden:14: expected the contraction coefficient (a number), found end of line"),
-        (17, "   0.5 0.7", "synthetic.molden:17: expected the p contraction coefficient of the sp shell (a number), found end of line"),
-        (15, "   nan 0.6", "synthetic.molden:15: expected a finite number, found \"nan\""),
-        (29, " Ene= minus one", "synthetic.molden:29: expected the orbital energy (a number), found \"minus\""),
-        (30, " Spin= up", "synthetic.molden:30: expected Alpha or Beta after Spin=, found \"up\""),
-        (32, " 1.5  0.5", "synthetic.molden:32: expected a coefficient line (index, then value) or an orbital's key line (Sym=, Ene=, Spin=, Occup=), found \"1.5  0.5\""),
-        (34, " 0 0.5", "synthetic.molden:34: expected a coefficient index from 1 up, found \"0\""),
+        (
+            5,
+            "[Atoms] (furlongs)",
+            "synthetic.molden:5: expected the unit after [Atoms]: (AU) or (Angs), found \"(furlongs)\"",
+        ),
+        (
+            6,
+            "O1  1  8  0.0  0.0",
+            "synthetic.molden:6: expected z (a number), found end of line",
+        ),
+        (
+            7,
+            "H   2  1  0.0  0.7572  -0.4692X0",
+            "synthetic.molden:7: expected z (a number), found \"-0.4692X0\"",
+        ),
+        (
+            7,
+            "H   2  1.5  0.0  0.7572  -0.4692",
+            "synthetic.molden:7: expected the atomic number (an integer), found \"1.5\"",
+        ),
+        (
+            13,
+            " S 99 1.00",
+            "synthetic.molden:13: bad number of primitives (expected 1 to 31, the lines left in the file), found 99",
+        ),
+        (
+            13,
+            " x 2 1.00",
+            "synthetic.molden:13: expected a shell line (s, p, sp, d, f, g, h or i, then the primitive count), an atom line or a blank line, found \"x 2 1.00\"",
+        ),
+        (
+            14,
+            "   1.0D+02",
+            "synthetic.molden:14: expected the contraction coefficient (a number), found end of line",
+        ),
+        (
+            17,
+            "   0.5 0.7",
+            "synthetic.molden:17: expected the p contraction coefficient of the sp shell (a number), found end of line",
+        ),
+        (
+            15,
+            "   nan 0.6",
+            "synthetic.molden:15: expected a finite number, found \"nan\"",
+        ),
+        (
+            29,
+            " Ene= minus one",
+            "synthetic.molden:29: expected the orbital energy (a number), found \"minus\"",
+        ),
+        (
+            30,
+            " Spin= up",
+            "synthetic.molden:30: expected Alpha or Beta after Spin=, found \"up\"",
+        ),
+        (
+            32,
+            " 1.5  0.5",
+            "synthetic.molden:32: expected a coefficient line (index, then value) or an orbital's key line (Sym=, Ene=, Spin=, Occup=), found \"1.5  0.5\"",
+        ),
+        (
+            34,
+            " 0 0.5",
+            "synthetic.molden:34: expected a coefficient index from 1 up, found \"0\"",
+        ),
     ];
     for (line, text, want) in cases {
         let got = error_with(line, text);
@@ -241,7 +313,10 @@ fn errors_name_file_line_and_expectation() {
 #[test]
 fn structural_errors() {
     let err = |t: &str| parse(t).expect_err("must fail").to_string();
-    assert_eq!(err("[Molden Format]\n[GTO]\n"), "synthetic.molden: expected an [Atoms] section, found none in the file");
+    assert_eq!(
+        err("[Molden Format]\n[GTO]\n"),
+        "synthetic.molden: expected an [Atoms] section, found none in the file"
+    );
     assert_eq!(
         err("[Atoms] AU\n[STO]\n"),
         "synthetic.molden: expected a [GTO] section (Gaussian basis; [STO] is not supported), found none in the file"
@@ -279,6 +354,8 @@ fn structural_errors() {
         "synthetic.molden:3: expected a section name in brackets after the flag [5D] (flags have no content), found \" 1\""
     );
     let missing = read_molden(Path::new("/nonexistent/x.molden")).expect_err("no such file");
-    assert!(missing.to_string().starts_with("/nonexistent/x.molden: read failed:"), "{missing}");
+    assert!(
+        missing.to_string().starts_with("/nonexistent/x.molden: read failed:"),
+        "{missing}"
+    );
 }
-
