@@ -28,7 +28,9 @@
 //! about 1e-20 for any basis).
 //!
 //! Parallel over shell pairs X, each task summing its row Y ≥ X in a fixed order; the rows are
-//! added in order of X, so results do not depend on the thread count.
+//! added in order of X, so results do not depend on the thread count. The Hermite densities of
+//! all pairs are held at once (16 bytes per orbital, primitive pair and Hermite index); orbitals
+//! go through in batches that keep them under 1 GiB.
 
 use std::f64::consts::PI;
 
@@ -61,7 +63,8 @@ pub struct SelfEnergies {
     pub hartree: Vec<f64>,
     /// Upper bound on |what screening left out| per orbital, hartree.
     pub screening_bound: Vec<f64>,
-    /// Shell-pair pairs computed and skipped (for reports and benchmarks).
+    /// Shell-pair pairs computed and skipped (for reports and benchmarks; of the last batch
+    /// when the orbitals went through in several).
     pub pair_pairs: (usize, usize),
 }
 
@@ -281,15 +284,60 @@ pub fn self_energies_with(
     params: CoulombParams,
     par: Parallelism,
 ) -> SelfEnergies {
+    self_energies_in_batches(basis, coefficients, params, par, MEMORY_BUDGET)
+}
+
+/// [`self_energies_with`] with the memory budget of a batch as a parameter, in bytes.
+pub(crate) fn self_energies_in_batches(
+    basis: &BasisSet,
+    coefficients: &[&[f64]],
+    params: CoulombParams,
+    par: Parallelism,
+    budget: usize,
+) -> SelfEnergies {
     let nf = basis.function_count();
     assert!(
         coefficients.iter().all(|c| c.len() == nf),
         "coefficient vectors must have one entry per basis function"
     );
-    let n = coefficients.len();
-    let cart: Vec<Vec<f64>> = coefficients.iter().map(|c| basis.to_cartesian(c)).collect();
     let max_l = basis.shells.iter().map(|s| s.l as usize).max().unwrap_or(0);
     let index = HermiteIndex::new(2 * max_l);
+    // The Hermite densities take 16 bytes per orbital, primitive pair and Hermite index; orbitals
+    // go through in batches that keep them under MEMORY_BUDGET (one batch for small molecules).
+    let per_orbital: usize = (0..basis.shells.len())
+        .flat_map(|a| (a..basis.shells.len()).map(move |b| (a, b)))
+        .map(|(a, b)| {
+            let (x, y) = (&basis.shells[a], &basis.shells[b]);
+            x.exponents.len() * y.exponents.len() * index.lists[(x.l + y.l) as usize].len() * 16
+        })
+        .sum();
+    let batch = (budget / per_orbital.max(1)).max(1);
+    let mut total = SelfEnergies {
+        hartree: Vec::with_capacity(coefficients.len()),
+        screening_bound: Vec::with_capacity(coefficients.len()),
+        pair_pairs: (0, 0),
+    };
+    for group in coefficients.chunks(batch) {
+        let r = batch_self_energies(basis, group, &index, params, par);
+        total.hartree.extend(r.hartree);
+        total.screening_bound.extend(r.screening_bound);
+        total.pair_pairs = r.pair_pairs;
+    }
+    total
+}
+
+/// Bytes of Hermite densities one batch of orbitals may hold.
+const MEMORY_BUDGET: usize = 1 << 30;
+
+fn batch_self_energies(
+    basis: &BasisSet,
+    coefficients: &[&[f64]],
+    index: &HermiteIndex,
+    params: CoulombParams,
+    par: Parallelism,
+) -> SelfEnergies {
+    let n = coefficients.len();
+    let cart: Vec<Vec<f64>> = coefficients.iter().map(|c| basis.to_cartesian(c)).collect();
     let ns = basis.shells.len();
     let pairs_ab: Vec<(usize, usize)> = (0..ns).flat_map(|a| (a..ns).map(move |b| (a, b))).collect();
     let scratch = || Scratch {
@@ -298,7 +346,7 @@ pub fn self_energies_with(
     };
     let pairs: Vec<ShellPair> = par.map(pairs_ab.len(), |k| {
         let (a, b) = pairs_ab[k];
-        shell_pair(basis, a, b, &cart, &index, &mut scratch())
+        shell_pair(basis, a, b, &cart, index, &mut scratch())
     });
     let rows = par.map(pairs.len(), |x| {
         let mut s = scratch();
@@ -319,7 +367,7 @@ pub fn self_energies_with(
             counts.0 += 1;
             for p in &pairs[x].prims {
                 for q in &pairs[y].prims {
-                    pair_pair(p, q, n, &index, 2.0, &mut s, &mut acc);
+                    pair_pair(p, q, n, index, 2.0, &mut s, &mut acc);
                 }
             }
         }

@@ -9,7 +9,8 @@
 //! then renormalised so that χ_l00 has unit norm (common practice; it changes nothing for
 //! writers that already normalise it). The file's basis functions are the normalised Cartesian
 //! components or real solid harmonics described in [`angular`]. A molden scale factor s
-//! multiplies exponents by s² (the format's definition; 1 in practice).
+//! multiplies exponents by s² (the convention of Gaussian basis-set input, which the format
+//! follows; from memory; writers put 1.0).
 //!
 //! Molecular orbitals are φ_i = Σ_μ C_μi φ_μ with the file's coefficients, coefficients the
 //! file leaves out being zero. Internally everything runs on the Cartesian components χ: an

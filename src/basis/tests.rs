@@ -273,6 +273,18 @@ fn screening_bound_covers_what_it_skips() {
     }
 }
 
+/// Orbitals going through in batches (to bound memory) give the same numbers.
+#[test]
+fn batches_change_nothing() {
+    let basis = mixed_basis(false);
+    let orbitals = random_orbitals(&basis, 5, 17);
+    let refs: Vec<&[f64]> = orbitals.iter().map(|c| c.as_slice()).collect();
+    let params = CoulombParams { screening: 0.0 };
+    let one = super::coulomb::self_energies_in_batches(&basis, &refs, params, Parallelism::Sequential, 1 << 40);
+    let many = super::coulomb::self_energies_in_batches(&basis, &refs, params, Parallelism::Sequential, 1);
+    assert_eq!(one.hartree, many.hartree);
+}
+
 #[test]
 fn results_do_not_depend_on_threads() {
     let basis = mixed_basis(true);

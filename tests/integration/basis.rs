@@ -238,3 +238,49 @@ fn inconsistent_files_are_refused_with_file_and_line() {
         (4, true, OrbitalSpin::Restricted)
     );
 }
+
+/// Flags, `sp` shells, Ångström positions and scale factors turned into shells as the format
+/// defines them (function counts per flag combination; positions × 1/0.529177210903).
+#[test]
+fn flags_sp_shells_units_and_scale_factors() {
+    let file = |flags: &str, unit: &str| {
+        format!(
+            "[Atoms] {unit}\nX 1 6 0.0 0.0 1.0\n[GTO]\n1 0\n sp 2 1.0\n 3.0 0.4 0.3\n 0.5 0.7 0.8\n d 1 1.0\n 0.8 1.0\n f 1 1.0\n 0.6 1.0\n g 1 2.0\n 0.4 1.0\n{flags}\n"
+        )
+    };
+    let build = |text: String| {
+        let m =
+            sixray_parsers::parse_molden(text.as_bytes(), Path::new("flags.molden")).unwrap_or_else(|e| panic!("{e}"));
+        BasisSet::from_molden(&m).unwrap_or_else(|e| panic!("{e}"))
+    };
+    // (flags, d, f, g functions): Cartesian by default; each flag as the format defines it.
+    for (flags, counts) in [
+        ("", [6, 10, 15]),
+        ("[5D]", [5, 7, 15]),
+        ("[5D7F]", [5, 7, 15]),
+        ("[5D10F]", [5, 10, 15]),
+        ("[7F]", [6, 7, 15]),
+        ("[9G]", [6, 10, 9]),
+        ("[5D]\n[9G]", [5, 7, 9]),
+        ("[6D]\n[10F]\n[15G]", [6, 10, 15]),
+    ] {
+        let b = build(file(flags, "AU"));
+        let got: Vec<usize> = b.shells.iter().map(|s| s.function_count()).collect();
+        assert_eq!(got, [1, 3, counts[0], counts[1], counts[2]], "flags {flags:?}");
+        // Every function of every shell is normalised.
+        let s = b.overlap_matrix();
+        let n = b.function_count();
+        assert!((0..n).all(|i| (s[i * n + i] - 1.0).abs() < 1e-13), "flags {flags:?}");
+    }
+    let b = build(file("", "(Angs)"));
+    assert!((b.atoms[0].position[2] - 1.0 / 0.529_177_210_903).abs() < 1e-12);
+    assert_eq!(b.atoms[0].atomic_number, 6);
+    // sp: one s and one p shell with the same exponents and their own coefficients.
+    assert_eq!((b.shells[0].l, b.shells[1].l), (0, 1));
+    assert_eq!(b.shells[0].exponents, b.shells[1].exponents);
+    let ratio = |s: &sixray::basis::Shell| s.primitive_coefficients()[1] / s.primitive_coefficients()[0];
+    assert!((ratio(&b.shells[0]) - ratio(&b.shells[1])).abs() > 0.1);
+    // Scale factor 2 multiplies the exponent by 4 (the convention the format shares with
+    // Gaussian basis-set input; from memory).
+    assert_eq!(b.shells[4].exponents, [1.6]);
+}
