@@ -81,7 +81,7 @@ impl MolecularOrbitals {
             let mut c = vec![0.0; n];
             let mut seen = vec![false; n];
             for (&(index, value), &line) in o.coefficients.iter().zip(&o.coefficient_lines) {
-                if index > n {
+                if index == 0 || index > n {
                     return Err(err(
                         line,
                         format!("expected a coefficient index from 1 to {n} (the basis functions), found {index}"),

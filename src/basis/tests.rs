@@ -308,6 +308,9 @@ fn results_do_not_depend_on_threads() {
     let x = basis.orbital_values(&refs, &points, Parallelism::Sequential);
     let y = basis.orbital_values(&refs, &points, Parallelism::Rayon);
     assert_eq!(x, y);
+    let v = basis.values_and_gradients(&points, Parallelism::Sequential);
+    let w = basis.values_and_gradients(&points, Parallelism::Rayon);
+    assert_eq!(v, w);
 }
 
 #[test]
