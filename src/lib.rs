@@ -2,6 +2,8 @@
 //!
 //! Units are atomic throughout the library: hartree, bohr, electrons. Reports convert for people.
 //!
+//! - [`basis`] reads Gaussian basis sets and orbitals (molden files), evaluates orbitals anywhere
+//!   and computes exact Hartree self-energies over the basis;
 //! - [`input`] turns grid files (read by the `sixray-parsers` crate) into orbital densities;
 //! - [`poisson`] computes free-space Coulomb energies on grids;
 //! - [`xc`] holds the exchange–correlation functionals and the named models;
@@ -12,6 +14,7 @@
 //! - [`batch`] runs workflows; [`inspect`] checks total-density files; [`molgrid`] and
 //!   [`localize`] provide atom-centred quadrature and Boys localization.
 
+pub mod basis;
 pub mod batch;
 pub mod cache;
 pub mod calculation;

@@ -16,9 +16,9 @@
 //! Nothing here knows physics: numbers come back exactly as written.
 
 mod data;
-mod error;
+pub(crate) mod error;
 mod header;
-mod number;
+pub(crate) mod number;
 
 use std::fs::File;
 use std::io::{BufRead, BufReader, Cursor, Read};
@@ -45,7 +45,7 @@ const READ_BUFFER_BYTES: usize = 1 << 20;
 /// Buffer between the file and the gzip decoder, in bytes.
 const GZIP_INPUT_BUFFER_BYTES: usize = 1 << 18;
 /// The two bytes that open every gzip member.
-const GZIP_MAGIC: [u8; 2] = [0x1f, 0x8b];
+pub(crate) const GZIP_MAGIC: [u8; 2] = [0x1f, 0x8b];
 
 /// Length unit of the origin, axis steps and atom positions, as selected by the sign of the
 /// axis point counts.
@@ -317,17 +317,20 @@ fn reject_compressed<R: BufRead>(reader: &mut R, src: &Path) -> Result<(), CubeE
 /// Opens `path`, detecting gzip by its magic bytes. Returns the text reader and the largest
 /// number of text bytes the file could yield (unknown for pipes and other non-regular files).
 fn open(path: &Path) -> Result<(Box<dyn BufRead>, Option<u64>), CubeError> {
-    let io_err = |e| CubeError::new(path, None, CubeErrorKind::Io(e));
-    let mut file = File::open(path).map_err(io_err)?;
-    let meta = file.metadata().map_err(io_err)?;
+    open_text(path).map_err(|e| CubeError::new(path, None, CubeErrorKind::Io(e)))
+}
+
+/// Opens `path` as text, decompressing transparently when it starts with the gzip magic bytes
+/// (shared by every reader). Returns the reader and the largest number of text bytes the file
+/// could yield (unknown for pipes and other non-regular files).
+pub(crate) fn open_text(path: &Path) -> std::io::Result<(Box<dyn BufRead>, Option<u64>)> {
+    let mut file = File::open(path)?;
+    let meta = file.metadata()?;
     let file_len = meta.is_file().then_some(meta.len());
 
     // Peek at the first two bytes without seeking, so that pipes work too.
     let mut magic = Vec::with_capacity(2);
-    (&mut file)
-        .take(2)
-        .read_to_end(&mut magic)
-        .map_err(io_err)?;
+    (&mut file).take(2).read_to_end(&mut magic)?;
     let gzip = magic == GZIP_MAGIC;
     let stream = Cursor::new(magic).chain(file);
 

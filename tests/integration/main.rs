@@ -1,6 +1,7 @@
 //! Integration tests: one binary. `cli` drives the real command line in temporary directories;
 //! the other modules check the library against external reference data in `../shared`.
 
+mod basis;
 mod batch;
 mod cli;
 mod common;

@@ -1,7 +1,8 @@
-//! Integration tests of the cube reader, built as one binary.
+//! Integration tests of the readers (cube, molden), built as one binary.
 
 mod common;
 mod errors;
+mod molden;
 mod read;
 mod robustness;
 mod shared;

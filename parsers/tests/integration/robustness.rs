@@ -1,8 +1,12 @@
 //! No input may panic the reader: truncations, byte flips, insertions and deletions of a valid
-//! file must each give Ok or Err, and any Ok must be internally consistent.
+//! file must each give Ok or Err, and any Ok must be internally consistent. Cube and molden
+//! readers alike.
+
+use std::path::Path;
 
 use crate::common::{Rng, gzip, parse, parse_with_buffer};
-use sixray_parsers::{CubeFile, ReadParams, read_cube};
+use crate::molden::VARIED as MOLDEN_SEED;
+use sixray_parsers::{CubeFile, MoldenFile, ReadParams, ShellType, parse_molden, read_cube, read_molden};
 
 /// A valid multi-orbital text with a wrapped index list, varied spellings and CRLF in places.
 fn seed_text() -> Vec<u8> {
@@ -125,6 +129,88 @@ fn gzip_truncations_and_flips() {
         std::fs::write(&path, &bytes).expect("write");
         if let Ok(c) = read_cube(&path, &ReadParams::default()) {
             consistent(&c);
+        }
+    }
+}
+
+// --- molden -----------------------------------------------------------------------------
+
+/// Checks what an accepted input returned.
+fn consistent_molden(m: &MoldenFile) {
+    for s in m.basis.iter().flat_map(|a| &a.shells) {
+        assert!(!s.primitives.is_empty());
+        assert!(s.primitives.iter().all(|p| p.exponent.is_finite() && p.coefficient.is_finite()));
+        assert_eq!(s.shell_type == ShellType::Sp, s.primitives.iter().all(|p| p.coefficient_p.is_some()));
+    }
+    for o in &m.orbitals {
+        assert!(!o.coefficients.is_empty());
+        assert_eq!(o.coefficients.len(), o.coefficient_lines.len());
+        assert!(o.coefficients.iter().all(|&(i, v)| i >= 1 && v.is_finite()));
+    }
+}
+
+#[test]
+fn molden_every_truncation() {
+    let seed = MOLDEN_SEED.as_bytes();
+    for cut in 0..seed.len() {
+        if let Ok(m) = parse_molden(&seed[..cut], Path::new("seed.molden")) {
+            consistent_molden(&m);
+        }
+    }
+}
+
+#[test]
+fn molden_random_byte_flips_insertions_deletions() {
+    let seed = MOLDEN_SEED.as_bytes().to_vec();
+    let alphabet = b"0123456789+-.eEdDsSpPfFgG[]()=AaUu \t\r\n#\x00\xff\xc3";
+    let mut rng = Rng(0x2545_f491_4f6c_dd1d);
+    let mut accepted = 0;
+    for _ in 0..20_000 {
+        let mut bytes = seed.clone();
+        for _ in 0..1 + rng.below(4) {
+            let at = rng.below(bytes.len() + 1);
+            let b = if rng.below(4) == 0 {
+                rng.next() as u8
+            } else {
+                alphabet[rng.below(alphabet.len())]
+            };
+            match rng.below(3) {
+                0 if at < bytes.len() => bytes[at] = b,
+                1 => bytes.insert(at, b),
+                _ if at < bytes.len() => {
+                    bytes.remove(at);
+                }
+                _ => {}
+            }
+        }
+        if let Ok(m) = parse_molden(&bytes, Path::new("seed.molden")) {
+            consistent_molden(&m);
+            accepted += 1;
+        }
+    }
+    // Some mutations are harmless (a digit changed): the mutated inputs must not all fail.
+    assert!(accepted > 0);
+}
+
+#[test]
+fn molden_gzip_truncations_and_flips() {
+    let packed = gzip(MOLDEN_SEED.as_bytes());
+    let dir = tempfile::tempdir().expect("tempdir");
+    let path = dir.path().join("t.molden.gz");
+    let mut rng = Rng(4242);
+    for cut in 0..packed.len() {
+        std::fs::write(&path, &packed[..cut]).expect("write");
+        if let Ok(m) = read_molden(&path) {
+            consistent_molden(&m);
+        }
+    }
+    for _ in 0..500 {
+        let mut bytes = packed.clone();
+        let at = rng.below(bytes.len());
+        bytes[at] ^= 1 << rng.below(8);
+        std::fs::write(&path, &bytes).expect("write");
+        if let Ok(m) = read_molden(&path) {
+            consistent_molden(&m);
         }
     }
 }

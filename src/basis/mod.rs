@@ -1,0 +1,452 @@
+//! Contracted Gaussian basis sets and molecular orbitals from molden files: evaluation of
+//! orbitals and their gradients anywhere, analytic overlaps, and exact Hartree self-energies
+//! ([`coulomb`]).
+//!
+//! A shell on centre A with angular momentum l, exponents α_p (bohr⁻²) and contraction
+//! coefficients d_p spans χ_abc(r) = x^a y^b z^c Σ_p d_p N_l(α_p) e^{−α_p r²} (x, y, z relative
+//! to A, a + b + c = l), where N_l(α)² = (4α)^l (2α/π)^{3/2} / (2l−1)!! normalises
+//! x^l e^{−αr²} ("contraction coefficients refer to normalised primitives"). The contraction is
+//! then renormalised so that χ_l00 has unit norm (common practice; it changes nothing for
+//! writers that already normalise it). The file's basis functions are the normalised Cartesian
+//! components or real solid harmonics described in [`angular`]. A molden scale factor s
+//! multiplies exponents by s² (the convention of Gaussian basis-set input, which the format
+//! follows; from memory; writers put 1.0).
+//!
+//! Molecular orbitals are φ_i = Σ_μ C_μi φ_μ with the file's coefficients, coefficients the
+//! file leaves out being zero. Internally everything runs on the Cartesian components χ: an
+//! orbital's coefficients are carried over once per orbital with the shells' matrices T.
+//!
+//! Units: bohr and hartree; positions in Ångström are converted with
+//! [`BOHR_PER_ANGSTROM`](crate::grid::BOHR_PER_ANGSTROM).
+
+pub mod angular;
+pub mod boys;
+pub mod coulomb;
+mod eval;
+pub(crate) mod hermite;
+mod orbitals;
+mod overlap;
+#[cfg(test)]
+mod tests;
+
+use std::fmt;
+use std::path::{Path, PathBuf};
+
+use sixray_parsers::LengthUnit;
+use sixray_parsers::molden::{MoldenError, MoldenFile, MoldenFlag, ShellType, read_molden};
+
+use crate::grid::BOHR_PER_ANGSTROM;
+
+pub use eval::OrbitalValues;
+pub use orbitals::{MolecularOrbitals, Orbital, OrbitalSpin};
+
+/// Highest angular momentum supported (g).
+pub const MAX_L: u32 = 4;
+
+/// A basis set or orbital set that cannot be built: where and why.
+#[derive(Debug, thiserror::Error)]
+pub enum BasisError {
+    /// The file could not be read.
+    #[error(transparent)]
+    Read(#[from] MoldenError),
+    /// The data are readable but unusable. Displays as `PATH:LINE: message`.
+    #[error("{}{message}", Location(path.as_deref(), *line))]
+    Invalid {
+        /// The file, if the data came from one.
+        path: Option<PathBuf>,
+        /// 1-based line, if one applies.
+        line: Option<usize>,
+        /// What is wrong, in the form "expected …, found …" where that fits.
+        message: String,
+    },
+}
+
+impl BasisError {
+    pub(crate) fn at(path: &Path, line: Option<usize>, message: impl Into<String>) -> Self {
+        BasisError::Invalid {
+            path: Some(path.to_path_buf()),
+            line,
+            message: message.into(),
+        }
+    }
+
+    fn plain(message: impl Into<String>) -> Self {
+        BasisError::Invalid {
+            path: None,
+            line: None,
+            message: message.into(),
+        }
+    }
+}
+
+/// `PATH:LINE: `, `PATH: ` or nothing.
+struct Location<'a>(Option<&'a Path>, Option<usize>);
+
+impl fmt::Display for Location<'_> {
+    fn fmt(&self, f: &mut fmt::Formatter<'_>) -> fmt::Result {
+        match (self.0, self.1) {
+            (Some(p), Some(l)) => write!(f, "{}:{l}: ", p.display()),
+            (Some(p), None) => write!(f, "{}: ", p.display()),
+            _ => Ok(()),
+        }
+    }
+}
+
+/// One contracted shell, normalised (see the module header).
+#[derive(Debug, Clone, PartialEq)]
+pub struct Shell {
+    /// Centre, bohr.
+    pub centre: [f64; 3],
+    /// Angular momentum.
+    pub l: u32,
+    /// Whether its functions are real solid harmonics (2l+1 of them) rather than Cartesian
+    /// components ((l+1)(l+2)/2); always false for s and p.
+    pub spherical: bool,
+    /// Exponents α_p, bohr⁻² (scale factor applied).
+    pub exponents: Vec<f64>,
+    /// Index of the atom the shell sits on (position in [`BasisSet::atoms`]).
+    pub atom: usize,
+    /// Coefficients of the plain primitives x^a y^b z^c e^{−α_p r²}: d_p N_l(α_p) times the
+    /// contraction's renormalisation.
+    pub(crate) raw: Vec<f64>,
+    /// T (functions × Cartesian components, row-major), see [`angular`].
+    pub(crate) to_cartesian: Vec<f64>,
+}
+
+impl Shell {
+    /// A shell from exponents (bohr⁻², > 0) and contraction coefficients of normalised
+    /// primitives. Errors for l above g, mismatched or empty lists, non-positive exponents or a
+    /// contraction of zero norm.
+    pub fn new(
+        centre: [f64; 3],
+        l: u32,
+        spherical: bool,
+        exponents: Vec<f64>,
+        coefficients: &[f64],
+        atom: usize,
+    ) -> Result<Shell, BasisError> {
+        if l > MAX_L {
+            return Err(BasisError::plain(format!(
+                "expected a shell of angular momentum at most {MAX_L} (g), found {l}"
+            )));
+        }
+        if exponents.is_empty() || exponents.len() != coefficients.len() {
+            return Err(BasisError::plain(format!(
+                "expected as many contraction coefficients as exponents (at least one), found {} and {}",
+                coefficients.len(),
+                exponents.len()
+            )));
+        }
+        if let Some(a) = exponents.iter().find(|a| !(a.is_finite() && **a > 0.0)) {
+            return Err(BasisError::plain(format!("expected positive exponents, found {a}")));
+        }
+        let spherical = spherical && l >= 2;
+        let to_cartesian = angular::transformation(l, spherical)
+            .ok_or_else(|| BasisError::plain(format!("no component order for l = {l}")))?;
+        let mut raw: Vec<f64> = exponents
+            .iter()
+            .zip(coefficients)
+            .map(|(&a, &d)| d * primitive_norm(l, a))
+            .collect();
+        let norm2 = contraction_norm2(l, &exponents, &raw);
+        if !(norm2.is_finite() && norm2 > 0.0) {
+            return Err(BasisError::plain(format!(
+                "expected a contraction of non-zero norm, found norm² {norm2:e}"
+            )));
+        }
+        let scale = 1.0 / norm2.sqrt();
+        raw.iter_mut().for_each(|r| *r *= scale);
+        Ok(Shell {
+            centre,
+            l,
+            spherical,
+            exponents,
+            atom,
+            raw,
+            to_cartesian,
+        })
+    }
+
+    /// Number of basis functions (2l+1 spherical, (l+1)(l+2)/2 Cartesian).
+    pub fn function_count(&self) -> usize {
+        if self.spherical {
+            angular::spherical_count(self.l)
+        } else {
+            angular::cartesian_count(self.l)
+        }
+    }
+
+    /// Number of Cartesian components used internally.
+    pub fn cartesian_count(&self) -> usize {
+        angular::cartesian_count(self.l)
+    }
+
+    /// Coefficients of the plain primitives x^a y^b z^c e^{−α_p r²} of the component χ_l00
+    /// (normalisation included).
+    pub fn primitive_coefficients(&self) -> &[f64] {
+        &self.raw
+    }
+}
+
+/// N_l(α): normalises x^l e^{−α r²}.
+fn primitive_norm(l: u32, a: f64) -> f64 {
+    ((4.0 * a).powi(l as i32) * (2.0 * a / std::f64::consts::PI).powf(1.5) / angular::odd_double_factorial(l)).sqrt()
+}
+
+/// ⟨χ_l00|χ_l00⟩ for plain-primitive coefficients `raw`.
+fn contraction_norm2(l: u32, exponents: &[f64], raw: &[f64]) -> f64 {
+    let df = angular::odd_double_factorial(l);
+    let mut sum = 0.0;
+    for (&ap, &rp) in exponents.iter().zip(raw) {
+        for (&aq, &rq) in exponents.iter().zip(raw) {
+            let g = ap + aq;
+            sum += rp * rq * df / (2.0 * g).powi(l as i32) * (std::f64::consts::PI / g).powf(1.5);
+        }
+    }
+    sum
+}
+
+/// An atom of the basis set's molecule.
+#[derive(Debug, Clone, PartialEq)]
+pub struct Atom {
+    /// Label as written.
+    pub label: String,
+    /// Atomic number.
+    pub atomic_number: u32,
+    /// Position, bohr.
+    pub position: [f64; 3],
+}
+
+/// A basis set: atoms and shells in the file's order. Function μ of the set is function
+/// `μ − first` of the shell that holds it (see [`BasisSet::shell_offsets`]).
+#[derive(Debug, Clone, PartialEq)]
+pub struct BasisSet {
+    /// Atoms, in the order of the file's `[Atoms]` section.
+    pub atoms: Vec<Atom>,
+    /// Shells, in the file's order.
+    pub shells: Vec<Shell>,
+    offsets: Vec<usize>,
+    cart_offsets: Vec<usize>,
+}
+
+/// Whether d, f and g shells are spherical, from the flag sections as written.
+fn spherical_flags(m: &MoldenFile) -> Result<[bool; 3], BasisError> {
+    // Per l = 2, 3, 4: the setting and the line that made it.
+    let mut set: [Option<(bool, usize)>; 3] = [None; 3];
+    for &(flag, line) in &m.flags {
+        let settings: &[(usize, bool)] = match flag {
+            MoldenFlag::D5 | MoldenFlag::D5F7 => &[(0, true), (1, true)],
+            MoldenFlag::D5F10 => &[(0, true), (1, false)],
+            MoldenFlag::F7 => &[(1, true)],
+            MoldenFlag::G9 => &[(2, true)],
+            MoldenFlag::D6 => &[(0, false)],
+            MoldenFlag::F10 => &[(1, false)],
+            MoldenFlag::G15 => &[(2, false)],
+        };
+        for &(k, spherical) in settings {
+            match set[k] {
+                Some((s, first)) if s != spherical => {
+                    let letter = ["d", "f", "g"][k];
+                    return Err(BasisError::at(
+                        &m.source,
+                        Some(line),
+                        format!(
+                            "expected flags that agree on the {letter} shells, found this one contradicting line {first}"
+                        ),
+                    ));
+                }
+                Some(_) => {}
+                None => set[k] = Some((spherical, line)),
+            }
+        }
+    }
+    Ok(set.map(|s| s.is_some_and(|(v, _)| v)))
+}
+
+impl BasisSet {
+    /// A basis set from shells built in code (atoms optional: pass an empty list).
+    pub fn new(atoms: Vec<Atom>, shells: Vec<Shell>) -> BasisSet {
+        let mut offsets = Vec::with_capacity(shells.len() + 1);
+        let mut cart_offsets = Vec::with_capacity(shells.len() + 1);
+        let (mut n, mut c) = (0, 0);
+        for s in &shells {
+            offsets.push(n);
+            cart_offsets.push(c);
+            n += s.function_count();
+            c += s.cartesian_count();
+        }
+        offsets.push(n);
+        cart_offsets.push(c);
+        BasisSet {
+            atoms,
+            shells,
+            offsets,
+            cart_offsets,
+        }
+    }
+
+    /// The basis set of a parsed molden file: positions to bohr, shells normalised, d/f/g
+    /// Cartesian or spherical as its flags say (Cartesian without flags), `sp` shells split
+    /// into an s and a p shell. Errors name the file and line.
+    pub fn from_molden(m: &MoldenFile) -> Result<BasisSet, BasisError> {
+        let path = &m.source;
+        let scale = match m.atoms_unit {
+            Some(LengthUnit::Bohr) => 1.0,
+            Some(LengthUnit::Angstrom) => BOHR_PER_ANGSTROM,
+            None => {
+                return Err(BasisError::at(
+                    path,
+                    Some(m.atoms_line),
+                    "expected the unit of [Atoms] ((AU) or (Angs)), found none",
+                ));
+            }
+        };
+        let mut atoms = Vec::with_capacity(m.atoms.len());
+        for a in &m.atoms {
+            let z = u32::try_from(a.atomic_number)
+                .ok()
+                .filter(|&z| z <= 200)
+                .ok_or_else(|| {
+                    BasisError::at(
+                        path,
+                        Some(a.line),
+                        format!("expected an atomic number from 0 to 200, found {}", a.atomic_number),
+                    )
+                })?;
+            if let Some(first) = m.atoms.iter().find(|b| b.index == a.index && b.line < a.line) {
+                return Err(BasisError::at(
+                    path,
+                    Some(a.line),
+                    format!(
+                        "expected a new atom sequence number, found {} again (line {})",
+                        a.index, first.line
+                    ),
+                ));
+            }
+            atoms.push(Atom {
+                label: a.label.clone(),
+                atomic_number: z,
+                position: a.position.map(|x| x * scale),
+            });
+        }
+        let spherical = spherical_flags(m)?;
+        let mut shells = Vec::new();
+        for (k, block) in m.basis.iter().enumerate() {
+            let Some(atom) = m.atoms.iter().position(|a| a.index == block.atom) else {
+                return Err(BasisError::at(
+                    path,
+                    Some(block.line),
+                    format!(
+                        "expected the sequence number of an atom in [Atoms], found {}",
+                        block.atom
+                    ),
+                ));
+            };
+            if let Some(first) = m.basis[..k].iter().find(|b| b.atom == block.atom) {
+                return Err(BasisError::at(
+                    path,
+                    Some(block.line),
+                    format!(
+                        "expected one [GTO] block per atom, found atom {} again (line {})",
+                        block.atom, first.line
+                    ),
+                ));
+            }
+            let centre = atoms[atom].position;
+            for s in &block.shells {
+                let factor = match s.scale {
+                    Some(f) if !(f.is_finite() && f > 0.0) => {
+                        return Err(BasisError::at(
+                            path,
+                            Some(s.line),
+                            format!("expected a positive scale factor, found {f}"),
+                        ));
+                    }
+                    Some(f) => f * f,
+                    None => 1.0,
+                };
+                for (k, p) in s.primitives.iter().enumerate() {
+                    if p.exponent <= 0.0 {
+                        return Err(BasisError::at(
+                            path,
+                            Some(s.line + 1 + k),
+                            format!("expected a positive exponent, found {}", p.exponent),
+                        ));
+                    }
+                }
+                let exponents: Vec<f64> = s.primitives.iter().map(|p| p.exponent * factor).collect();
+                let parts: Vec<(u32, Vec<f64>)> = match s.shell_type {
+                    ShellType::Sp => vec![
+                        (0, s.primitives.iter().map(|p| p.coefficient).collect()),
+                        (1, s.primitives.iter().map(|p| p.coefficient_p.unwrap_or(0.0)).collect()),
+                    ],
+                    t => {
+                        let l = t.angular_momentum().unwrap_or(0);
+                        if l > MAX_L {
+                            return Err(BasisError::at(
+                                path,
+                                Some(s.line),
+                                format!("expected a shell of type s, p, sp, d, f or g, found {}", t.letters()),
+                            ));
+                        }
+                        vec![(l, s.primitives.iter().map(|p| p.coefficient).collect())]
+                    }
+                };
+                for (l, coefficients) in parts {
+                    let sph = l >= 2 && spherical[l as usize - 2];
+                    let shell =
+                        Shell::new(centre, l, sph, exponents.clone(), &coefficients, atom).map_err(|e| match e {
+                            BasisError::Invalid { message, .. } => BasisError::at(path, Some(s.line), message),
+                            other => other,
+                        })?;
+                    shells.push(shell);
+                }
+            }
+        }
+        Ok(BasisSet::new(atoms, shells))
+    }
+
+    /// Number of basis functions.
+    pub fn function_count(&self) -> usize {
+        self.offsets[self.shells.len()]
+    }
+
+    /// Number of Cartesian components used internally.
+    pub fn cartesian_count(&self) -> usize {
+        self.cart_offsets[self.shells.len()]
+    }
+
+    /// First function of each shell, and the total at the end (length shells + 1).
+    pub fn shell_offsets(&self) -> &[usize] {
+        &self.offsets
+    }
+
+    pub(crate) fn cartesian_offsets(&self) -> &[usize] {
+        &self.cart_offsets
+    }
+
+    /// Coefficients of one orbital over the internal Cartesian components, from its
+    /// coefficients over the basis functions (length [`BasisSet::function_count`]).
+    pub(crate) fn to_cartesian(&self, c: &[f64]) -> Vec<f64> {
+        let mut out = vec![0.0; self.cartesian_count()];
+        for (k, s) in self.shells.iter().enumerate() {
+            let nc = s.cartesian_count();
+            let src = &c[self.offsets[k]..self.offsets[k + 1]];
+            let dst = &mut out[self.cart_offsets[k]..self.cart_offsets[k + 1]];
+            for (j, &cj) in src.iter().enumerate() {
+                for (d, t) in dst.iter_mut().zip(&s.to_cartesian[j * nc..(j + 1) * nc]) {
+                    *d += cj * t;
+                }
+            }
+        }
+        out
+    }
+}
+
+/// Reads a molden file (plain or gzip) and builds its basis set and orbitals.
+pub fn read(path: &Path) -> Result<(BasisSet, MolecularOrbitals), BasisError> {
+    let file = read_molden(path)?;
+    let basis = BasisSet::from_molden(&file)?;
+    let orbitals = MolecularOrbitals::from_molden(&file, &basis)?;
+    Ok((basis, orbitals))
+}
