@@ -17,12 +17,14 @@
 #![warn(missing_docs)]
 
 pub mod cube;
+pub mod format;
 pub mod molden;
 
 pub use cube::{
     CubeAtom, CubeAxis, CubeError, CubeErrorKind, CubeFile, CubeHeader, LengthUnit, ReadParams,
     parse_cube, parse_cube_header, read_cube, read_cube_header,
 };
+pub use format::{FileFormat, sniff_format};
 pub use molden::{
     MoldenAtom, MoldenBasisAtom, MoldenError, MoldenErrorKind, MoldenFile, MoldenFlag,
     MoldenOrbital, MoldenPrimitive, MoldenShell, MoldenSpin, ShellType, parse_molden, read_molden,

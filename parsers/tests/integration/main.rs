@@ -2,6 +2,7 @@
 
 mod common;
 mod errors;
+mod format;
 mod molden;
 mod read;
 mod robustness;
