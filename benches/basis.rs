@@ -7,6 +7,10 @@
 //! 2. Orbital values and gradients of the same five orbitals on 10⁶ points of a cube-like grid
 //!    around the molecule (what a grid-based exchange–correlation step would ask for).
 //!
+//! 3. The whole basis-set path of `sixray rank` on the same file (exact J plus every
+//!    functional of the reference files on the atom-centred grid) at each grid level, with error bars
+//!    (a second, coarser grid) and without.
+//!
 //! Each timing is the best of several runs.
 
 use std::io::Write;
@@ -15,7 +19,11 @@ use std::time::{Duration, Instant};
 
 use sixray::basis::coulomb::{CoulombParams, self_energies_with};
 use sixray::basis::{self};
+use sixray::diagnostics::{Engine, EngineParams};
+use sixray::molecular::{MolecularParams, analyse_molden};
+use sixray::molgrid::{GridAtom, GridLevel, MolecularGrid};
 use sixray::par::Parallelism;
+use sixray::xc::Model;
 
 fn best<T>(runs: usize, mut f: impl FnMut() -> T) -> (Duration, T) {
     let mut out = None;
@@ -85,5 +93,36 @@ fn main() {
             t.as_secs_f64(),
             t.as_secs_f64() * 1e6 / points.len() as f64
         );
+    }
+    // Every functional of the shared reference files: LSDA, PW92, VWN5, B88, LYP, PBE, PW91,
+    // SCAN and r²SCAN exchange and correlation.
+    let models: Vec<Model> = ["lsda", "lsda-vwn5", "blyp", "pbe", "pw91-x", "scan", "r2scan"]
+        .iter()
+        .map(|m| Model::from_name(m).expect("built-in model"))
+        .collect();
+    let names: Vec<String> = models.iter().map(|m| m.name.clone()).collect();
+    let atoms: Vec<GridAtom> = basis
+        .atoms
+        .iter()
+        .map(|a| GridAtom { position: a.position, atomic_number: a.atomic_number as i32 })
+        .collect();
+    println!("\nmodels: {}", names.join(", "));
+    for level in [GridLevel::Coarse, GridLevel::Default, GridLevel::Fine] {
+        let points = MolecularGrid::new(&atoms, level).len();
+        for error_bars in [false, true] {
+            let mut params = EngineParams::default();
+            params.trust.error_bars = error_bars;
+            let engine = Engine::new(models.clone(), params);
+            let molecular = MolecularParams { grid: level, ..MolecularParams::default() };
+            let (t, _) = best(3, || analyse_molden(&path, &engine, &molecular, Parallelism::Rayon).expect("water analyses"));
+            println!(
+                "{:<58} {:>9.3} s",
+                format!(
+                    "{level:?} grid ({points} points), all orbitals{}",
+                    if error_bars { ", error bars" } else { "" }
+                ),
+                t.as_secs_f64()
+            );
+        }
     }
 }

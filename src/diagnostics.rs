@@ -155,6 +155,9 @@ pub struct OrbitalReport {
     pub flags: Vec<Flag>,
     /// What the cusp correction changed (`None` when none was applied).
     pub cusp_correction: Option<CuspCorrection>,
+    /// The orbital energy the file gives, hartree (basis-set files; `None` for grid files).
+    #[serde(default)]
+    pub energy: Option<f64>,
 }
 
 /// Error bars of one orbital's energies: non-negative, hartree.
@@ -379,6 +382,7 @@ impl Engine {
             errors: None,
             flags: Vec::new(),
             cusp_correction: sums.cusp.clone(),
+            energy: None,
         };
         check_finite(&report, &self.models)?;
         if self.params.trust.error_bars {
@@ -421,10 +425,16 @@ pub struct CuspCorrection {
 /// functional needs it and τ the von Weizsäcker value |∇n|²/8n of a single real orbital, from the
 /// same gradient so that the iso-orbital indicator of meta-GGAs is exactly zero.
 pub(crate) fn grid_sum(f: &dyn Functional, rho: &[f64], grad_sq: Option<&[f64]>, par: Parallelism) -> f64 {
+    weighted_sum(f, rho, grad_sq, None, par)
+}
+
+/// [`grid_sum`] with a weight per point (bohr³; the sum is then an energy, hartree), or none.
+pub(crate) fn weighted_sum(f: &dyn Functional, rho: &[f64], grad_sq: Option<&[f64]>, weights: Option<&[f64]>, par: Parallelism) -> f64 {
     let gradients = grad_sq.filter(|_| f.family() >= Family::Gga);
     par.chunked_sum(rho.len(), |range| {
         // One buffer per chunk, one virtual call per chunk; points without density are skipped.
         let mut points = Vec::with_capacity(range.len());
+        let mut w = Vec::with_capacity(if weights.is_some() { range.len() } else { 0 });
         for k in range {
             let n = rho[k];
             if n <= DENSITY_FLOOR {
@@ -432,8 +442,11 @@ pub(crate) fn grid_sum(f: &dyn Functional, rho: &[f64], grad_sq: Option<&[f64]>,
             }
             let sigma = gradients.map_or(0.0, |g| g[k]);
             points.push(XcPoint::polarized(n, sigma, sigma / (8.0 * n)));
+            if let Some(weights) = weights {
+                w.push(weights[k]);
+            }
         }
-        f.sum_energy_density(&points)
+        if weights.is_some() { f.sum_weighted_energy_density(&points, &w) } else { f.sum_energy_density(&points) }
     })
 }
 

@@ -7,6 +7,7 @@
 pub use crate::diagnostics::Kind;
 use crate::diagnostics::{GridOrbital, Spin};
 use crate::grid::{BOHR_PER_ANGSTROM, GridError, GridGeometry, Nucleus};
+use crate::molecular::MolecularParams;
 use sixray_parsers::cube::{self, CubeError, CubeHeader, LengthUnit, ReadParams};
 use std::path::{Path, PathBuf};
 use std::sync::Arc;
@@ -33,11 +34,20 @@ pub struct LoadParams {
     pub occupation: f64,
     /// Limits of the file reader.
     pub read: ReadParams,
+    /// How to treat Gaussian-basis files (which give their own spins and occupations: `kind`,
+    /// `spin` and `occupation` apply to grid files only).
+    pub molecular: MolecularParams,
 }
 
 impl Default for LoadParams {
     fn default() -> Self {
-        LoadParams { kind: Kind::Amplitude, spin: SpinRule::FromName, occupation: 1.0, read: ReadParams::default() }
+        LoadParams {
+            kind: Kind::Amplitude,
+            spin: SpinRule::FromName,
+            occupation: 1.0,
+            read: ReadParams::default(),
+            molecular: MolecularParams::default(),
+        }
     }
 }
 
@@ -91,10 +101,10 @@ pub fn spin_from_name(path: &Path) -> Spin {
     }
 }
 
-/// File name without directory and without `.gz` / `.cube` / `.cub` suffixes.
-fn stem(path: &Path) -> String {
+/// File name without directory and without `.gz` / `.cube` / `.cub` / `.molden` suffixes.
+pub(crate) fn stem(path: &Path) -> String {
     let mut name = path.file_name().map(|n| n.to_string_lossy().into_owned()).unwrap_or_default();
-    for suffix in [".gz", ".cube", ".cub"] {
+    for suffix in [".gz", ".cube", ".cub", ".molden", ".mold"] {
         if let Some(s) = name.strip_suffix(suffix) {
             name = s.to_string();
         }

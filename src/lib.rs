@@ -24,6 +24,7 @@ pub mod gradient;
 pub mod grid;
 pub mod input;
 pub mod localize;
+pub mod molecular;
 pub mod molgrid;
 pub mod inspect;
 pub mod par;

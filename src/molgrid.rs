@@ -20,12 +20,12 @@ use std::f64::consts::PI;
 /// How fine the grid is.
 #[derive(Clone, Copy, Debug, PartialEq, Eq, Default)]
 pub enum GridLevel {
-    /// Quick looks (one electron integrates to about 1e-5).
+    /// Quick looks: functionals of valence orbitals to about 2e-5 Eh (B88 exchange 1e-4).
     Coarse,
-    /// The default (about 1e-7).
+    /// The default: about 3e-6 Eh (B88 exchange 5e-5, see [`crate::molecular`]).
     #[default]
     Default,
-    /// Reference quality (about 1e-9).
+    /// Reference quality: better than 1e-6 Eh (B88 exchange 3e-5).
     Fine,
 }
 
@@ -35,9 +35,9 @@ impl GridLevel {
     fn sizes(self, z: i32) -> (usize, usize) {
         let heavy = if z > 2 { 1.25 } else { 1.0 };
         let (radial, angular) = match self {
-            GridLevel::Coarse => (60.0, 12),
-            GridLevel::Default => (120.0, 20),
-            GridLevel::Fine => (200.0, 30),
+            GridLevel::Coarse => (50.0, 15),
+            GridLevel::Default => (80.0, 30),
+            GridLevel::Fine => (120.0, 50),
         };
         ((radial * heavy) as usize, angular)
     }

@@ -3,7 +3,7 @@
 use super::Report;
 
 /// Column names, in order.
-pub const COLUMNS: [&str; 23] = [
+pub const COLUMNS: [&str; 24] = [
     "rank",
     "source",
     "label",
@@ -27,6 +27,7 @@ pub const COLUMNS: [&str; 23] = [
     "cusp_hartree",
     "cusp_exchange",
     "cusp_correlation",
+    "energy",
 ];
 
 /// A field quoted where RFC 4180 requires it.
@@ -74,6 +75,7 @@ pub fn rows(report: &Report, leading: &[String], out: &mut String) {
                 opt(o.cusp_correction.as_ref().and_then(|c| c.hartree)),
                 opt(o.cusp_correction.as_ref().map(|c| c.models[k].0)),
                 opt(o.cusp_correction.as_ref().map(|c| c.models[k].1)),
+                opt(o.energy),
             ];
             let line: Vec<&str> = leading.iter().map(String::as_str).chain(cells.iter().map(String::as_str)).collect();
             out.push_str(&line.join(","));

@@ -115,6 +115,12 @@ pub trait Functional: Send + Sync + std::fmt::Debug {
     fn sum_energy_density(&self, points: &[XcPoint]) -> f64 {
         points.iter().map(|p| self.energy_density(p)).sum()
     }
+
+    /// Σ_k w_k e(points[k]) (weights in bohr³ give hartree), dispatched like
+    /// [`Functional::sum_energy_density`].
+    fn sum_weighted_energy_density(&self, points: &[XcPoint], weights: &[f64]) -> f64 {
+        points.iter().zip(weights).map(|(p, w)| w * self.energy_density(p)).sum()
+    }
 }
 
 /// Densities below this (electrons/bohr³) contribute nothing: far below any integral's round-off,
