@@ -37,11 +37,12 @@ pub fn settings_fingerprint(load: &LoadParams, spin: Spin, models: &[Model], eng
         .collect::<Vec<_>>()
         .join(",");
     format!(
-        "sixray {}; kind {:?}; spin {:?}; occupation {:e}; models {models}; engine {:?}",
+        "sixray {}; kind {:?}; spin {:?}; occupation {:e}; basis files {:?}; models {models}; engine {:?}",
         env!("CARGO_PKG_VERSION"),
         load.kind,
         spin,
         load.occupation,
+        load.molecular,
         engine
     )
 }

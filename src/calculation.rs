@@ -1,4 +1,7 @@
-//! Running grid files through the engine: one calculation for `rank`, many for `batch`.
+//! Running orbital files through the engine: one calculation for `rank`, many for `batch`.
+//!
+//! Grid files (cube) go through the grid path ([`Engine::analyse`]); Gaussian-basis files
+//! (molden, recognised by their first line) through the exact path of [`crate::molecular`].
 //!
 //! The unit of work is a file (one or several orbitals). A file that cannot be read or analysed
 //! is recorded as a failure and the others go on. Memory stays bounded: with at least as many
@@ -10,17 +13,19 @@ use crate::cache::{ResultCache, file_digest, settings_fingerprint};
 use crate::diagnostics::{Engine, OrbitalReport, Ranking};
 use crate::grid::GridGeometry;
 use crate::input::{LoadParams, geometry_of, load_cube, orbital_labels};
+use crate::molecular::{MolecularParams, analyse_molden, occupied_orbitals, sample_molden};
 use crate::par::Parallelism;
 use crate::progress::{Progress, Silent};
 use sixray_parsers::cube::read_cube_header;
-use std::path::PathBuf;
+use sixray_parsers::{FileFormat, sniff_format};
+use std::path::{Path, PathBuf};
 
 /// A file to analyse, and how.
 #[derive(Clone, Debug, PartialEq)]
 pub struct FileJob {
     /// Name of the calculation the file belongs to (for progress and reports; may be empty).
     pub calculation: String,
-    /// The grid file.
+    /// The orbital file (cube grid or molden basis file).
     pub path: PathBuf,
     /// How to read it.
     pub load: LoadParams,
@@ -72,14 +77,19 @@ fn analyse_file_quietly(
 ) -> Result<(Vec<OrbitalReport>, usize), FileFailure> {
     let path = &job.path;
     let fail = |error: String| FileFailure { source: path.display().to_string(), error };
+    let format = sniff_format(path).map_err(|e| fail(format!("{}: {e}", path.display())))?;
     let spin = job.load.spin_for(path);
-    // Cache keys need the orbital count (from the header) and the file's digest.
+    // Cache keys need the orbital labels (from the header or the orbital list) and the digest.
     let keys = match cache {
         Some(_) => {
-            let header = read_cube_header(path).map_err(|e| fail(e.to_string()))?;
+            let labels = match format {
+                FileFormat::Cube => orbital_labels(path, &read_cube_header(path).map_err(|e| fail(e.to_string()))?),
+                FileFormat::Molden => {
+                    occupied_orbitals(path).map_err(|e| fail(e.to_string()))?.into_iter().map(|(label, _)| label).collect()
+                }
+            };
             let digest = file_digest(path).map_err(|e| fail(format!("{}: {e}", path.display())))?;
             let settings = settings_fingerprint(&job.load, spin, engine.models(), engine.params());
-            let labels = orbital_labels(path, &header);
             let keys: Vec<String> = (0..labels.len()).map(|k| ResultCache::key(&digest, k, &settings)).collect();
             Some((keys, labels))
         }
@@ -104,26 +114,70 @@ fn analyse_file_quietly(
     if !cached.is_empty() && from_cache == cached.len() {
         return Ok((cached.into_iter().flatten().collect(), from_cache));
     }
-
-    let orbitals = load_cube(path, &job.load).map_err(|e| fail(e.to_string()))?;
-    cached.resize(orbitals.len(), None);
-    let mut reports = Vec::with_capacity(orbitals.len());
-    for (k, (orbital, hit)) in orbitals.iter().zip(cached).enumerate() {
-        let report = match hit {
-            Some(r) => r,
-            None => {
-                let r = engine.analyse(orbital, par).map_err(|e| fail(format!("{} ({}): {e}", path.display(), orbital.label)))?;
-                if let (Some((keys, _)), Some(cache)) = (&keys, cache) {
-                    if let Err(e) = cache.put(&keys[k], &r) {
-                        progress.warning(&format!("could not write a cache entry for {} ({}): {e}", path.display(), orbital.label));
-                    }
-                }
-                r
+    let store = |k: usize, r: &OrbitalReport| {
+        if let (Some((keys, _)), Some(cache)) = (&keys, cache) {
+            if let Err(e) = cache.put(&keys[k], r) {
+                progress.warning(&format!("could not write a cache entry for {} ({}): {e}", path.display(), r.label));
             }
-        };
-        reports.push(report);
-    }
+        }
+    };
+
+    let reports = match format {
+        FileFormat::Cube => {
+            let orbitals = load_cube(path, &job.load).map_err(|e| fail(e.to_string()))?;
+            cached.resize(orbitals.len(), None);
+            let mut reports = Vec::with_capacity(orbitals.len());
+            for (k, (orbital, hit)) in orbitals.iter().zip(cached).enumerate() {
+                let report = match hit {
+                    Some(r) => r,
+                    None => {
+                        let r = engine.analyse(orbital, par).map_err(|e| fail(format!("{} ({}): {e}", path.display(), orbital.label)))?;
+                        store(k, &r);
+                        r
+                    }
+                };
+                reports.push(report);
+            }
+            reports
+        }
+        // The exact path treats every orbital of the file in one pass over the integrals, so a
+        // partial cache hit still recomputes the file; the hits are kept as they were.
+        FileFormat::Molden => {
+            let computed = analyse_basis_file(path, &job.load.molecular, engine, par).map_err(fail)?;
+            cached.resize(computed.len(), None);
+            computed
+                .into_iter()
+                .zip(cached)
+                .enumerate()
+                .map(|(k, (r, hit))| {
+                    hit.unwrap_or_else(|| {
+                        store(k, &r);
+                        r
+                    })
+                })
+                .collect()
+        }
+    };
     Ok((reports, from_cache))
+}
+
+/// Every occupied orbital of a Gaussian-basis file: exactly, or through the grid path on a
+/// uniform grid when `params` asks for one. Errors name the file (and line where known).
+fn analyse_basis_file(path: &Path, params: &MolecularParams, engine: &Engine, par: Parallelism) -> Result<Vec<OrbitalReport>, String> {
+    let Some(spacing) = params.uniform_spacing else {
+        return analyse_molden(path, engine, params, par).map_err(|e| e.to_string());
+    };
+    let energies = occupied_orbitals(path).map_err(|e| e.to_string())?;
+    let orbitals = sample_molden(path, spacing, params.uniform_margin, par).map_err(|e| e.to_string())?;
+    orbitals
+        .iter()
+        .zip(energies)
+        .map(|(orbital, (_, energy))| {
+            let mut r = engine.analyse(orbital, par).map_err(|e| format!("{} ({}): {e}", path.display(), orbital.label))?;
+            r.energy = energy;
+            Ok(r)
+        })
+        .collect()
 }
 
 /// Runs every job, in parallel where that keeps memory bounded; results in job order.
@@ -143,10 +197,15 @@ pub fn run_files(
     }
 }
 
-/// Orbitals the jobs hold, from their headers (a file whose header cannot be read counts as
-/// one; it will fail later with the full error).
+/// Orbital reports the jobs will yield, from grid headers and basis-file orbital lists (a file
+/// that cannot be read counts as one; it will fail later with the full error).
 pub fn count_orbitals(jobs: &[FileJob]) -> usize {
-    jobs.iter().map(|j| read_cube_header(&j.path).map_or(1, |h| h.values_per_point)).sum()
+    jobs.iter()
+        .map(|j| match sniff_format(&j.path) {
+            Ok(FileFormat::Molden) => occupied_orbitals(&j.path).map_or(1, |o| o.len()),
+            _ => read_cube_header(&j.path).map_or(1, |h| h.values_per_point),
+        })
+        .sum()
 }
 
 /// Analyses every orbital in `files` as one calculation and ranks them by model `rank_by`.

@@ -9,6 +9,9 @@
 //!     occupation: 1.0                # optional: electrons per spin-orbital, 0 < f ≤ 1
 //!     tags: [neutral]                # optional
 //!     density: water/density.cube.gz # optional: total density, checked against the atoms and orbitals
+//!     grid_level: default            # optional, basis-set (molden) files: coarse | default | fine
+//!     uniform_grid: 0.15             # optional, basis-set files: sample on a uniform grid of this
+//!                                    #   spacing (bohr) and take the grid-file path instead
 //! models: [lsda, blyp, xalpha=0.75]  # named models, xalpha=VALUE, or custom ones below
 //! custom_models:                     # optional, as in a models file
 //!   - {name: xa-vwn, exchange: xalpha, alpha: 0.7, correlation: vwn5}
@@ -32,6 +35,8 @@
 
 use crate::diagnostics::Spin;
 use crate::input::{Kind, LoadParams, SpinRule};
+use crate::molecular::{MIN_UNIFORM_SPACING, MolecularParams};
+use crate::molgrid::GridLevel;
 use crate::report::EnergyUnit;
 use crate::trust::TrustParams;
 use crate::xc::model::{CustomModel, ModelLibrary};
@@ -75,7 +80,7 @@ pub struct CalculationPlan {
     pub tags: Vec<String>,
     /// How its files are read.
     pub load: LoadParams,
-    /// Its grid files, in pattern order, each pattern's matches sorted.
+    /// Its orbital files (grid or basis-set), in pattern order, each pattern's matches sorted.
     pub files: Vec<PathBuf>,
     /// Its total-density file, checked against its atoms and its orbitals, if given.
     pub density: Option<PathBuf>,
@@ -244,6 +249,33 @@ struct CalculationSpec {
     tags: Vec<String>,
     #[serde(default)]
     density: Option<DensityFile>,
+    #[serde(default)]
+    grid_level: GridLevelSpec,
+    #[serde(default)]
+    uniform_grid: Option<Spacing>,
+}
+
+#[derive(Clone, Copy, Debug, Default, Deserialize)]
+#[serde(rename_all = "lowercase")]
+enum GridLevelSpec {
+    Coarse,
+    #[default]
+    Default,
+    Fine,
+}
+
+/// A uniform grid spacing in bohr: positive, and not so fine that the grid cannot be held.
+struct Spacing(f64);
+
+impl<'de> Deserialize<'de> for Spacing {
+    fn deserialize<D: Deserializer<'de>>(d: D) -> Result<Self, D::Error> {
+        let h = f64::deserialize(d)?;
+        if h.is_finite() && h >= MIN_UNIFORM_SPACING {
+            Ok(Spacing(h))
+        } else {
+            Err(D::Error::custom(format!("uniform_grid must be a spacing of at least {MIN_UNIFORM_SPACING} bohr, got {h}")))
+        }
+    }
 }
 
 /// The one total-density file a pattern names.
@@ -440,10 +472,19 @@ impl Workflow {
                     KindSpec::Density => Kind::Density,
                 };
                 let occupation = c.occupation.map_or(1.0, |o| o.0);
+                let molecular = MolecularParams {
+                    grid: match c.grid_level {
+                        GridLevelSpec::Coarse => GridLevel::Coarse,
+                        GridLevelSpec::Default => GridLevel::Default,
+                        GridLevelSpec::Fine => GridLevel::Fine,
+                    },
+                    uniform_spacing: c.uniform_grid.map(|h| h.0),
+                    ..MolecularParams::default()
+                };
                 CalculationPlan {
                     name: c.name.0,
                     tags: c.tags,
-                    load: LoadParams { kind, spin, occupation, ..LoadParams::default() },
+                    load: LoadParams { kind, spin, occupation, molecular, ..LoadParams::default() },
                     files,
                     density: c.density.map(|d| d.0),
                 }

@@ -1,4 +1,4 @@
-//! `sixray rank`: one calculation's grid files in, a ranked report out.
+//! `sixray rank`: one calculation's orbital files in, a ranked report out.
 
 use super::Status;
 use anyhow::{Context, bail};
@@ -6,6 +6,8 @@ use clap::{Args, ValueEnum};
 use sixray::calculation::analyse_files;
 use sixray::diagnostics::{Engine, EngineParams, Spin};
 use sixray::input::{Kind, LoadParams, SpinRule};
+use sixray::molecular::{MIN_UNIFORM_SPACING, MolecularParams};
+use sixray::molgrid::GridLevel;
 use sixray::report::{self, EnergyUnit, Report};
 use sixray::trust::TrustParams;
 use sixray::xc::Model;
@@ -14,7 +16,8 @@ use std::path::PathBuf;
 
 #[derive(Debug, Args)]
 pub struct RankArgs {
-    /// Grid files (cube format, optionally gzip-compressed) of one calculation.
+    /// Orbital files of one calculation: cube grids or molden basis-set files (either optionally
+    /// gzip-compressed).
     #[arg(required = true, value_name = "FILE")]
     files: Vec<PathBuf>,
 
@@ -42,6 +45,15 @@ pub struct RankArgs {
     /// Electrons in each spin-orbital, where the files cannot say (0 < F ≤ 1).
     #[arg(long, value_name = "F", default_value_t = 1.0)]
     occupation: f64,
+
+    /// Atom-centred grid for the functionals of basis-set files.
+    #[arg(long, value_enum, default_value_t = GridLevelArg::Default)]
+    grid_level: GridLevelArg,
+
+    /// Evaluate basis-set files on a uniform grid of SPACING bohr and take the grid-file path
+    /// (to see what a cube file of that spacing would cost in accuracy).
+    #[arg(long = "grid", value_name = "SPACING")]
+    uniform_grid: Option<f64>,
 
     /// Output format.
     #[arg(short, long, value_enum, default_value_t = Format::Table)]
@@ -83,6 +95,13 @@ pub struct RankArgs {
 enum KindArg {
     Amplitude,
     Density,
+}
+
+#[derive(Clone, Copy, Debug, ValueEnum)]
+enum GridLevelArg {
+    Coarse,
+    Default,
+    Fine,
 }
 
 #[derive(Clone, Copy, Debug, ValueEnum)]
@@ -130,6 +149,9 @@ pub fn run(args: RankArgs) -> anyhow::Result<Status> {
     if args.fail_above.is_some_and(|t| !(t.is_finite() && t >= 0.0)) {
         bail!("--fail-above must be a non-negative number");
     }
+    if args.uniform_grid.is_some_and(|h| !(h.is_finite() && h >= MIN_UNIFORM_SPACING)) {
+        bail!("--grid must be a spacing of at least {MIN_UNIFORM_SPACING} bohr");
+    }
     if !(args.occupation > 0.0 && args.occupation <= 1.0) {
         bail!("--occupation must be in (0, 1], got {}", args.occupation);
     }
@@ -145,6 +167,15 @@ pub fn run(args: RankArgs) -> anyhow::Result<Status> {
             SpinArg::Beta => SpinRule::Fixed(Spin::Beta),
         },
         occupation: args.occupation,
+        molecular: MolecularParams {
+            grid: match args.grid_level {
+                GridLevelArg::Coarse => GridLevel::Coarse,
+                GridLevelArg::Default => GridLevel::Default,
+                GridLevelArg::Fine => GridLevel::Fine,
+            },
+            uniform_spacing: args.uniform_grid,
+            ..MolecularParams::default()
+        },
         ..LoadParams::default()
     };
 

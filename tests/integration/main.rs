@@ -2,6 +2,7 @@
 //! the other modules check the library against external reference data in `../shared`.
 
 mod basis;
+mod basis_cli;
 mod batch;
 mod cli;
 mod common;
