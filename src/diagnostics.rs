@@ -158,6 +158,30 @@ pub struct OrbitalReport {
     /// The orbital energy the file gives, hartree (basis-set files; `None` for grid files).
     #[serde(default)]
     pub energy: Option<f64>,
+    /// Which orbitals these are: as the file gives them, or Foster–Boys localized.
+    #[serde(default)]
+    pub set: OrbitalSet,
+}
+
+/// Canonical orbitals (as the program wrote them) or localized ones formed from them.
+#[derive(Clone, Copy, Debug, Default, PartialEq, Eq, Hash, Serialize, Deserialize)]
+#[serde(rename_all = "lowercase")]
+pub enum OrbitalSet {
+    /// As in the files.
+    #[default]
+    Canonical,
+    /// Foster–Boys localized within each spin channel ([`crate::localize`]).
+    Localized,
+}
+
+impl OrbitalSet {
+    /// `canonical` or `localized`.
+    pub fn as_str(self) -> &'static str {
+        match self {
+            OrbitalSet::Canonical => "canonical",
+            OrbitalSet::Localized => "localized",
+        }
+    }
 }
 
 /// Error bars of one orbital's energies: non-negative, hartree.
@@ -383,6 +407,7 @@ impl Engine {
             flags: Vec::new(),
             cusp_correction: sums.cusp.clone(),
             energy: None,
+            set: OrbitalSet::Canonical,
         };
         check_finite(&report, &self.models)?;
         if self.params.trust.error_bars {

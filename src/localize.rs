@@ -23,11 +23,22 @@ pub struct LocalizeParams {
     pub tolerance: f64,
     /// Give up after this many sweeps.
     pub max_sweeps: usize,
+    /// Rotate a pair even where L has zero slope in its direction (|B| below
+    /// [`SADDLE_SLOPE`]), taking the pair's best angle. Canonical orbitals of different
+    /// symmetry sit at such points (a saddle of L: B vanishes by symmetry although rotating
+    /// gains); with `false`, those pairs are left alone, orbitals of different symmetry never
+    /// mix, and the result is the symmetry-preserving stationary point that a gradient-driven
+    /// optimiser started from canonical orbitals stops at, instead of the larger maximum.
+    pub escape_saddle_points: bool,
 }
+
+/// Slope |B| (bohr²) below which a pair counts as having none (round-off of symmetric pairs
+/// is ~1e-16 bohr² times L).
+pub const SADDLE_SLOPE: f64 = 1e-10;
 
 impl Default for LocalizeParams {
     fn default() -> Self {
-        LocalizeParams { tolerance: 1e-12, max_sweeps: 500 }
+        LocalizeParams { tolerance: 1e-10, max_sweeps: 500, escape_saddle_points: true }
     }
 }
 
@@ -77,7 +88,7 @@ pub fn boys(dipoles: &[Vec<Vec<f64>>; 3], params: &LocalizeParams) -> Localizati
                     b += m[i][j] * diff;
                 }
                 let gain = a + (a * a + b * b).sqrt();
-                if gain <= params.tolerance * 1e-3 {
+                if gain <= params.tolerance * 1e-3 || (!params.escape_saddle_points && b.abs() <= SADDLE_SLOPE) {
                     continue;
                 }
                 largest_gain = largest_gain.max(gain);

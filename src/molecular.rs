@@ -19,10 +19,11 @@
 //! spin-orbitals sharing its electrons.
 
 use crate::basis::coulomb::{CoulombParams, self_energies_with};
-use crate::basis::{BasisError, BasisSet, MolecularOrbitals, Orbital, OrbitalSpin};
+use crate::basis::{BasisError, BasisSet, MolecularOrbitals, OrbitalSpin};
 use crate::diagnostics::{
-    Engine, GridOrbital, Kind, ModelEnergies, ModelErrors, OrbitalErrors, OrbitalReport, Spin, weighted_sum,
+    Engine, GridOrbital, Kind, ModelEnergies, ModelErrors, OrbitalErrors, OrbitalReport, OrbitalSet, Spin, weighted_sum,
 };
+use crate::localize::{ChannelLocalization, LocalizeParams, boys, rotate};
 use crate::grid::{GridGeometry, Nucleus};
 use crate::molgrid::{GridAtom, GridLevel, MolecularGrid};
 use crate::par::Parallelism;
@@ -61,7 +62,7 @@ impl Default for MolecularParams {
 /// report a molden file yields, in report order; cheap (no integrals).
 pub fn occupied_orbitals(path: &Path) -> Result<Vec<(String, Option<f64>)>, BasisError> {
     let (_, orbitals) = crate::basis::read(path)?;
-    Ok(occupied(&orbitals, &crate::input::stem(path)).into_iter().map(|o| (o.label, o.orbital.energy)).collect())
+    Ok(occupied(&orbitals, &crate::input::stem(path)).into_iter().map(|o| (o.label, o.energy)).collect())
 }
 
 /// Error bar of a grid integral per unit of its change from the neighbouring level (module docs).
@@ -70,16 +71,18 @@ const GRID_BAR_FACTOR: f64 = 2.0;
 /// Orbitals evaluated per pass over the grid (bounds memory: four values per point each).
 const ORBITAL_BATCH: usize = 8;
 
-/// An occupied orbital as diagnosed: its spin, electrons per spin-orbital and label.
-struct Occupied<'a> {
-    orbital: &'a Orbital,
+/// An occupied orbital as diagnosed: coefficients, energy (hartree), spin, electrons per
+/// spin-orbital and label.
+struct Occupied {
+    coefficients: Vec<f64>,
+    energy: Option<f64>,
     spin: Spin,
     occupation: f64,
     label: String,
 }
 
 /// The occupied spin-orbitals of a file, with the occupation conventions of the module docs.
-fn occupied<'a>(orbitals: &'a MolecularOrbitals, stem: &str) -> Vec<Occupied<'a>> {
+fn occupied(orbitals: &MolecularOrbitals, stem: &str) -> Vec<Occupied> {
     orbitals
         .orbitals
         .iter()
@@ -92,7 +95,13 @@ fn occupied<'a>(orbitals: &'a MolecularOrbitals, stem: &str) -> Vec<Occupied<'a>
                 OrbitalSpin::Alpha => (Spin::Alpha, f.min(1.0), "a"),
                 OrbitalSpin::Beta => (Spin::Beta, f.min(1.0), "b"),
             };
-            Occupied { orbital: o, spin, occupation, label: format!("{stem}#{}{suffix}", o.index) }
+            Occupied {
+                coefficients: o.coefficients.clone(),
+                energy: o.energy,
+                spin,
+                occupation,
+                label: format!("{stem}#{}{suffix}", o.index),
+            }
         })
         .collect()
 }
@@ -115,7 +124,7 @@ fn grid_integrals(
     let needs_gradient = functionals.iter().any(|f| f.family() >= Family::Gga);
     let mut out = Vec::with_capacity(orbitals.len());
     for batch in orbitals.chunks(ORBITAL_BATCH) {
-        let coefficients: Vec<&[f64]> = batch.iter().map(|o| o.orbital.coefficients.as_slice()).collect();
+        let coefficients: Vec<&[f64]> = batch.iter().map(|o| o.coefficients.as_slice()).collect();
         let values = basis.orbital_values(&coefficients, &grid.points, par);
         for (o, v) in batch.iter().zip(values) {
             let f = o.occupation;
@@ -138,8 +147,84 @@ fn grid_integrals(
 /// cusp settings do not apply: J is exact).
 pub fn analyse_molden(path: &Path, engine: &Engine, params: &MolecularParams, par: Parallelism) -> Result<Vec<OrbitalReport>, BasisError> {
     let (basis, orbitals) = crate::basis::read(path)?;
+    let occupied = occupied(&orbitals, &crate::input::stem(path));
+    Ok(analyse_occupied(path, &basis, &occupied, engine, params, par))
+}
+
+/// [`analyse_molden`] for the Foster–Boys localized orbitals of the file: within each spin
+/// channel (orbitals of one occupation), dipole integrals over the basis, the rotation that
+/// maximises Σ_i |⟨φ_i|r|φ_i⟩|², then the exact path on the rotated coefficients. Labels are
+/// `STEM#locK` (with `a`/`b` for α/β channels); localized orbitals have no orbital energy.
+pub fn analyse_molden_localized(
+    path: &Path,
+    engine: &Engine,
+    params: &MolecularParams,
+    localize: &LocalizeParams,
+    par: Parallelism,
+) -> Result<(Vec<OrbitalReport>, Vec<ChannelLocalization>), BasisError> {
+    let (basis, orbitals) = crate::basis::read(path)?;
     let stem = crate::input::stem(path);
-    let occupied = occupied(&orbitals, &stem);
+    let canonical = occupied(&orbitals, &stem);
+    let dipoles = basis.dipole_matrices();
+    let n = basis.function_count();
+    let mut localized = Vec::with_capacity(canonical.len());
+    let mut channels = Vec::new();
+    for spin in [Spin::Restricted, Spin::Alpha, Spin::Beta] {
+        let channel: Vec<&Occupied> = canonical.iter().filter(|o| o.spin == spin).collect();
+        let Some(first) = channel.first() else { continue };
+        if let Some(o) = channel.iter().find(|o| o.occupation != first.occupation) {
+            return Err(BasisError::Invalid {
+                path: Some(path.to_path_buf()),
+                line: None,
+                message: format!(
+                    "{} has {} electrons per spin-orbital, {} has {}; localization mixes orbitals of one occupation only",
+                    o.label, o.occupation, first.label, first.occupation
+                ),
+            });
+        }
+        // ⟨φ_i|r|φ_j⟩ = c_iᵀ R c_j per direction.
+        let half: Vec<[Vec<f64>; 3]> = channel
+            .iter()
+            .map(|o| dipoles.each_ref().map(|m| (0..n).map(|p| (0..n).map(|q| m[p * n + q] * o.coefficients[q]).sum()).collect()))
+            .collect();
+        let mo: [Vec<Vec<f64>>; 3] = [0, 1, 2].map(|x| {
+            channel
+                .iter()
+                .map(|oi| half.iter().map(|h| oi.coefficients.iter().zip(&h[x]).map(|(c, r)| c * r).sum()).collect())
+                .collect()
+        });
+        let result = boys(&mo, localize);
+        let coefficients: Vec<Vec<f64>> = channel.iter().map(|o| o.coefficients.clone()).collect();
+        let suffix = match spin {
+            Spin::Restricted => "",
+            Spin::Alpha => "a",
+            Spin::Beta => "b",
+        };
+        for (k, c) in rotate(&coefficients, &result.rotation).into_iter().enumerate() {
+            localized.push(Occupied {
+                coefficients: c,
+                energy: None,
+                spin,
+                occupation: first.occupation,
+                label: format!("{stem}#loc{}{suffix}", k + 1),
+            });
+        }
+        channels.push(ChannelLocalization { spin, orbitals: channel.len(), result });
+    }
+    let mut reports = analyse_occupied(path, &basis, &localized, engine, params, par);
+    reports.iter_mut().for_each(|r| r.set = OrbitalSet::Localized);
+    Ok((reports, channels))
+}
+
+/// Exact J and grid functionals of `occupied` orbitals of `basis` (reports name `path`).
+fn analyse_occupied(
+    path: &Path,
+    basis: &BasisSet,
+    occupied: &[Occupied],
+    engine: &Engine,
+    params: &MolecularParams,
+    par: Parallelism,
+) -> Vec<OrbitalReport> {
 
     // Distinct functionals, LSDA exchange first (for α*).
     let mut functionals: Vec<Arc<dyn Functional>> = vec![Arc::new(XAlpha::lsda())];
@@ -154,9 +239,9 @@ pub fn analyse_molden(path: &Path, engine: &Engine, params: &MolecularParams, pa
     }
     let slot = |f: &Arc<dyn Functional>| index[&(f.part(), f.id())];
 
-    let coefficients: Vec<&[f64]> = occupied.iter().map(|o| o.orbital.coefficients.as_slice()).collect();
-    let coulomb = self_energies_with(&basis, &coefficients, CoulombParams::default(), par);
-    let fine = grid_integrals(&basis, &occupied, &functionals, &grid_of(&basis, params.grid), par);
+    let coefficients: Vec<&[f64]> = occupied.iter().map(|o| o.coefficients.as_slice()).collect();
+    let coulomb = self_energies_with(basis, &coefficients, CoulombParams::default(), par);
+    let fine = grid_integrals(basis, occupied, &functionals, &grid_of(basis, params.grid), par);
     let error_bars = engine.params().trust.error_bars;
     // The neighbouring level for the error bars: the next coarser one, or for the coarsest the
     // next finer (an honest bar costs more there).
@@ -165,7 +250,7 @@ pub fn analyse_molden(path: &Path, engine: &Engine, params: &MolecularParams, pa
         GridLevel::Default => GridLevel::Coarse,
         GridLevel::Coarse => GridLevel::Default,
     };
-    let coarse = error_bars.then(|| grid_integrals(&basis, &occupied, &functionals, &grid_of(&basis, neighbour), par));
+    let coarse = error_bars.then(|| grid_integrals(basis, occupied, &functionals, &grid_of(basis, neighbour), par));
 
     let mut reports = Vec::with_capacity(occupied.len());
     for (k, o) in occupied.iter().enumerate() {
@@ -210,10 +295,11 @@ pub fn analyse_molden(path: &Path, engine: &Engine, params: &MolecularParams, pa
             errors,
             flags: Vec::new(),
             cusp_correction: None,
-            energy: o.orbital.energy,
+            energy: o.energy,
+            set: OrbitalSet::Canonical,
         });
     }
-    Ok(reports)
+    reports
 }
 
 /// The occupied orbitals of a molden file sampled on a uniform grid of `spacing` bohr that
@@ -260,7 +346,7 @@ pub fn sample_molden(path: &Path, spacing: f64, margin: f64, par: Parallelism) -
     let geometry = Arc::new(geometry);
     let mut out = Vec::with_capacity(occupied.len());
     for batch in occupied.chunks(ORBITAL_BATCH) {
-        let coefficients: Vec<&[f64]> = batch.iter().map(|o| o.orbital.coefficients.as_slice()).collect();
+        let coefficients: Vec<&[f64]> = batch.iter().map(|o| o.coefficients.as_slice()).collect();
         for (o, v) in batch.iter().zip(basis.orbital_values(&coefficients, &points, par)) {
             out.push(GridOrbital {
                 source: path.display().to_string(),

@@ -415,3 +415,60 @@ fn bad_shells_are_refused() {
         "expected a contraction of non-zero norm, found norm² 0e0"
     );
 }
+
+/// Dipole integrals against quadrature of φ_μ φ_ν r on a fine atom-centred grid, for every pair
+/// of functions of the mixed basis (s to g, spherical and Cartesian, three centres).
+#[test]
+fn dipole_integrals_match_quadrature() {
+    use crate::molgrid::{GridAtom, GridLevel, MolecularGrid};
+    for spherical in [false, true] {
+        let basis = mixed_basis(spherical);
+        let n = basis.function_count();
+        let centres = [[0.1, -0.2, 0.05], [1.3, 0.4, -0.7], [-0.6, 1.1, 0.9]];
+        let atoms: Vec<GridAtom> = centres.iter().map(|&position| GridAtom { position, atomic_number: 6 }).collect();
+        let grid = MolecularGrid::new(&atoms, GridLevel::Default);
+        let unit: Vec<Vec<f64>> = (0..n).map(|i| (0..n).map(|j| if i == j { 1.0 } else { 0.0 }).collect()).collect();
+        let refs: Vec<&[f64]> = unit.iter().map(Vec::as_slice).collect();
+        let phi = basis.orbital_values(&refs, &grid.points, Parallelism::Rayon);
+        let dipoles = basis.dipole_matrices();
+        let s = basis.overlap_matrix();
+        let mut worst: f64 = 0.0;
+        for i in 0..n {
+            for j in i..n {
+                let products = || grid.weights.iter().zip(&phi[i].values).zip(&phi[j].values).map(|((w, a), b)| w * a * b);
+                // The grid's own error, from the overlap it reproduces.
+                let overlap: f64 = products().sum();
+                assert!((overlap - s[i * n + j]).abs() < 1e-8, "S[{i},{j}]: {overlap} vs {}", s[i * n + j]);
+                for (x, d) in dipoles.iter().enumerate() {
+                    let q: f64 = products().zip(&grid.points).map(|(p, r)| p * r[x]).sum();
+                    worst = worst.max((q - d[i * n + j]).abs());
+                    assert!((q - d[i * n + j]).abs() < 1e-8, "r_{x}[{i},{j}] spherical={spherical}: {q} vs {}", d[i * n + j]);
+                    assert_eq!(d[i * n + j], d[j * n + i]);
+                }
+            }
+        }
+        assert!(worst > 0.0);
+    }
+}
+
+/// A normalised s function's dipole is its centre; a p_x function's transition dipole to the s
+/// function on the same centre is ⟨s|x|p_x⟩ = 1/(2√a) for one exponent a (a Gaussian moment
+/// integral, derived by hand).
+#[test]
+fn dipole_integrals_closed_forms() {
+    let centre = [0.4, -1.2, 2.5];
+    let a = 0.8;
+    let basis = BasisSet::new(Vec::new(), vec![s_shell(centre, a), Shell::new(centre, 1, false, vec![a], &[1.0], 0).unwrap()]);
+    let d = basis.dipole_matrices();
+    let n = basis.function_count();
+    for x in 0..3 {
+        assert!((d[x][0] - centre[x]).abs() < 1e-14, "{}", d[x][0]);
+        // Function 1 + x is p_x, p_y, p_z in the format's order.
+        assert!((d[x][1 + x] - 0.5 / a.sqrt()).abs() < 1e-14, "{}", d[x][1 + x]);
+        for (k, v) in d[x].iter().enumerate().take(n).skip(1) {
+            if k != 1 + x {
+                assert!(v.abs() < 1e-14);
+            }
+        }
+    }
+}

@@ -159,6 +159,7 @@ mod tests {
             flags: Vec::new(),
             cusp_correction: None,
             energy: None,
+            set: Default::default(),
         }
     }
 

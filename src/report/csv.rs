@@ -3,7 +3,7 @@
 use super::Report;
 
 /// Column names, in order.
-pub const COLUMNS: [&str; 24] = [
+pub const COLUMNS: [&str; 25] = [
     "rank",
     "source",
     "label",
@@ -28,6 +28,7 @@ pub const COLUMNS: [&str; 24] = [
     "cusp_exchange",
     "cusp_correlation",
     "energy",
+    "set",
 ];
 
 /// A field quoted where RFC 4180 requires it.
@@ -76,6 +77,7 @@ pub fn rows(report: &Report, leading: &[String], out: &mut String) {
                 opt(o.cusp_correction.as_ref().map(|c| c.models[k].0)),
                 opt(o.cusp_correction.as_ref().map(|c| c.models[k].1)),
                 opt(o.energy),
+                o.set.as_str().to_string(),
             ];
             let line: Vec<&str> = leading.iter().map(String::as_str).chain(cells.iter().map(String::as_str)).collect();
             out.push_str(&line.join(","));

@@ -3,7 +3,7 @@
 //! ```text
 //! { "tool": {"name", "version"}, "units": "hartree", "rank_by": MODEL,
 //!   "models": [{"name", "exchange", "correlation", "summary"}],
-//!   "orbitals": [ {"rank", "source", "label", "spin", "occupation", "energy", "norm", "lost_charge",
+//!   "orbitals": [ {"rank", "source", "label", "spin", "occupation", "energy", "set", "norm", "lost_charge",
 //!                  "hartree", "optimal_alpha", "models": {MODEL: {"exchange", "correlation",
 //!                  "self_interaction", "cancellation"}},
 //!                  "errors": {"hartree", "models": {MODEL: {"exchange", "correlation",
@@ -63,6 +63,7 @@ pub fn orbitals(report: &Report) -> Vec<Value> {
                 "spin": o.spin.as_str(),
                 "occupation": o.occupation,
                 "energy": o.energy,
+                "set": o.set.as_str(),
                 "norm": o.norm,
                 "lost_charge": o.lost_charge,
                 "hartree": o.hartree,

@@ -40,6 +40,7 @@ fn orbital(label: &str, spin: Spin, hartree: f64, models: &[(f64, f64)], errors:
         flags: flags.to_vec(),
         cusp_correction: None,
         energy: None,
+            set: Default::default(),
     }
 }
 
