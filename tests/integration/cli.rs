@@ -146,13 +146,14 @@ fn formats_units_top_and_output_file() {
         lines[0],
         "rank,source,label,spin,occupation,norm,lost_charge,hartree,hartree_error,optimal_alpha,model,exchange,\
          exchange_error,correlation,correlation_error,self_interaction,self_interaction_error,cancellation,flags,checked,\
-         cusp_hartree,cusp_exchange,cusp_correlation,energy"
+         cusp_hartree,cusp_exchange,cusp_correlation,energy,set"
     );
-    // Error bars are there unless switched off; a grid file gives no orbital energy (the last field).
-    let row = lines[1].strip_suffix(',').expect("an empty energy field");
+    // Error bars are there unless switched off; a grid file gives no orbital energy (the field
+    // before the orbital set).
+    let row = lines[1].strip_suffix(",,canonical").expect("an empty energy field, canonical orbitals");
     assert!(row.contains(",true,") && !row.contains(",,"), "{}", lines[1]);
     let bare = stdout(&sixray(&["rank", "-f", "csv", "--no-error-bars", "--no-cusp-correction", f], dir.path()));
-    assert!(bare.lines().nth(1).unwrap().ends_with(",false,,,,"), "{bare}");
+    assert!(bare.lines().nth(1).unwrap().ends_with(",false,,,,,canonical"), "{bare}");
     assert_eq!(lines.len(), 3, "one row per orbital and model: {csv}");
 
     // --top limits the rows, not the totals; --output writes the same text atomically.
