@@ -10,10 +10,11 @@
 //! do not depend on which: every sum has a fixed order.
 
 use crate::cache::{ResultCache, file_digest, settings_fingerprint};
-use crate::diagnostics::{Engine, OrbitalReport, Ranking};
+use crate::diagnostics::{Engine, GridOrbital, OrbitalReport, OrbitalSet, Ranking};
+use crate::localize::{ChannelLocalization, LocalizeParams, localize_grid_orbitals};
 use crate::grid::GridGeometry;
 use crate::input::{LoadParams, geometry_of, load_cube, orbital_labels};
-use crate::molecular::{MolecularParams, analyse_molden, occupied_orbitals, sample_molden};
+use crate::molecular::{MolecularParams, analyse_molden, analyse_molden_localized, occupied_orbitals, sample_molden};
 use crate::par::Parallelism;
 use crate::progress::{Progress, Silent};
 use sixray_parsers::cube::read_cube_header;
@@ -47,6 +48,41 @@ pub struct Outcome {
     pub ranking: Ranking,
     /// Files that could not, in input order.
     pub failures: Vec<FileFailure>,
+    /// For localized orbitals: how each spin channel's localization went (empty otherwise).
+    pub localization: Vec<LocalizationSummary>,
+}
+
+/// Which orbitals of a calculation are analysed.
+#[derive(Clone, Copy, Debug, Default, PartialEq, Eq)]
+pub enum OrbitalSets {
+    /// The orbitals as the files give them.
+    #[default]
+    Canonical,
+    /// Foster–Boys localized orbitals formed from them.
+    Localized,
+    /// Both, as two rankings.
+    Both,
+}
+
+impl OrbitalSets {
+    /// Whether the canonical set is analysed.
+    pub fn canonical(self) -> bool {
+        self != OrbitalSets::Localized
+    }
+
+    /// Whether the localized set is analysed.
+    pub fn localized(self) -> bool {
+        self != OrbitalSets::Canonical
+    }
+}
+
+/// One spin channel's localization.
+#[derive(Clone, Debug, PartialEq)]
+pub struct LocalizationSummary {
+    /// The files whose orbitals were rotated into each other.
+    pub source: String,
+    /// The channel and the optimiser's result (L before and after, bohr²; sweeps; convergence).
+    pub channel: ChannelLocalization,
 }
 
 /// The orbitals of one file, from the cache where possible, computed (and cached) otherwise;
@@ -213,7 +249,91 @@ pub fn analyse_files(files: &[PathBuf], load: &LoadParams, engine: &Engine, rank
     let jobs: Vec<FileJob> =
         files.iter().map(|p| FileJob { calculation: String::new(), path: p.clone(), load: load.clone() }).collect();
     let (orbitals, failures) = split(run_files(&jobs, engine, None, &Silent));
-    Outcome { ranking: Ranking::new(orbitals, rank_by), failures }
+    Outcome { ranking: Ranking::new(orbitals, rank_by), failures, localization: Vec::new() }
+}
+
+/// The Foster–Boys localized orbitals of one calculation, ranked by model `rank_by`: each
+/// basis-set file localized on its own (its coefficients rotated, then the exact path, or the
+/// uniform grid when `load` asks for one), and the grid files together, per spin channel, on
+/// their shared grid. A grid file that cannot be read leaves the grid files unlocalized (a
+/// rotation of an incomplete set is not the localization of the calculation): it is reported as
+/// a failure, as is the whole grid set.
+pub fn analyse_localized(
+    files: &[PathBuf],
+    load: &LoadParams,
+    engine: &Engine,
+    localize: &LocalizeParams,
+    rank_by: usize,
+    par: Parallelism,
+) -> Outcome {
+    let mut reports = Vec::new();
+    let mut failures = Vec::new();
+    let mut localization = Vec::new();
+    let mut grid_orbitals: Vec<GridOrbital> = Vec::new();
+    let mut grid_files: Vec<&PathBuf> = Vec::new();
+    let mut grid_complete = true;
+    type Localized = (Vec<OrbitalReport>, Vec<ChannelLocalization>);
+    let localize_on_grid = |orbitals: Vec<GridOrbital>, source: &str| -> Result<Localized, String> {
+        let (localized, channels) = localize_grid_orbitals(&orbitals, localize).map_err(|e| format!("{source}: {e}"))?;
+        let mut reports = Vec::with_capacity(localized.len());
+        for o in &localized {
+            let mut r = engine.analyse(o, par).map_err(|e| format!("{source} ({}): {e}", o.label))?;
+            r.set = OrbitalSet::Localized;
+            reports.push(r);
+        }
+        Ok((reports, channels))
+    };
+    for path in files {
+        let fail = |error: String| FileFailure { source: path.display().to_string(), error };
+        match sniff_format(path) {
+            Err(e) => {
+                failures.push(fail(format!("{}: {e}", path.display())));
+                grid_complete = false;
+            }
+            Ok(FileFormat::Molden) => {
+                let source = path.display().to_string();
+                let result = match load.molecular.uniform_spacing {
+                    None => analyse_molden_localized(path, engine, &load.molecular, localize, par).map_err(|e| e.to_string()),
+                    Some(h) => sample_molden(path, h, load.molecular.uniform_margin, par)
+                        .map_err(|e| e.to_string())
+                        .and_then(|orbitals| localize_on_grid(orbitals, &source)),
+                };
+                match result {
+                    Ok((r, channels)) => {
+                        reports.extend(r);
+                        localization.extend(channels.into_iter().map(|channel| LocalizationSummary { source: source.clone(), channel }));
+                    }
+                    Err(e) => failures.push(fail(e)),
+                }
+            }
+            Ok(FileFormat::Cube) => match load_cube(path, load) {
+                Ok(o) => {
+                    grid_orbitals.extend(o);
+                    grid_files.push(path);
+                }
+                Err(e) => {
+                    failures.push(fail(e.to_string()));
+                    grid_complete = false;
+                }
+            },
+        }
+    }
+    if !grid_orbitals.is_empty() {
+        let source = grid_files.iter().map(|p| p.display().to_string()).collect::<Vec<_>>().join(" + ");
+        let result = if grid_complete {
+            localize_on_grid(grid_orbitals, &source)
+        } else {
+            Err("not localized: every grid file of the calculation is needed".to_string())
+        };
+        match result {
+            Ok((r, channels)) => {
+                reports.extend(r);
+                localization.extend(channels.into_iter().map(|channel| LocalizationSummary { source: source.clone(), channel }));
+            }
+            Err(error) => failures.push(FileFailure { source, error }),
+        }
+    }
+    Outcome { ranking: Ranking::new(reports, rank_by), failures, localization }
 }
 
 /// Orbital reports (in job order) and failures of a set of file results.

@@ -23,22 +23,28 @@ pub struct LocalizeParams {
     pub tolerance: f64,
     /// Give up after this many sweeps.
     pub max_sweeps: usize,
-    /// Rotate a pair even where L has zero slope in its direction (|B| below
-    /// [`SADDLE_SLOPE`]), taking the pair's best angle. Canonical orbitals of different
+    /// Rotate a pair even where L has zero slope in its direction (|B| below `flat_slope`),
+    /// taking the pair's best angle. Canonical orbitals of different
     /// symmetry sit at such points (a saddle of L: B vanishes by symmetry although rotating
     /// gains); with `false`, those pairs are left alone, orbitals of different symmetry never
     /// mix, and the result is the symmetry-preserving stationary point that a gradient-driven
     /// optimiser started from canonical orbitals stops at, instead of the larger maximum.
     pub escape_saddle_points: bool,
+    /// Slope |B| (bohr²) below which a pair counts as having none, for
+    /// `escape_saddle_points: false`. The default suits exact dipole integrals (round-off of
+    /// symmetry-forbidden slopes ~1e-16 bohr² times L); grid quadrature raises it to at least
+    /// [`GRID_FLAT_SLOPE`].
+    pub flat_slope: f64,
 }
 
-/// Slope |B| (bohr²) below which a pair counts as having none (round-off of symmetric pairs
-/// is ~1e-16 bohr² times L).
-pub const SADDLE_SLOPE: f64 = 1e-10;
+/// Smallest `flat_slope` for dipole matrices from grid files: on the shared reference's water
+/// cubes (0.15 bohr, six digits) symmetry-forbidden slopes come out up to ~1e-9 bohr², so
+/// 1e-9 lets the optimiser break the symmetry and 1e-8 does not; 1e-7 leaves a margin.
+pub const GRID_FLAT_SLOPE: f64 = 1e-7;
 
 impl Default for LocalizeParams {
     fn default() -> Self {
-        LocalizeParams { tolerance: 1e-10, max_sweeps: 500, escape_saddle_points: true }
+        LocalizeParams { tolerance: 1e-10, max_sweeps: 500, escape_saddle_points: true, flat_slope: 1e-10 }
     }
 }
 
@@ -88,7 +94,7 @@ pub fn boys(dipoles: &[Vec<Vec<f64>>; 3], params: &LocalizeParams) -> Localizati
                     b += m[i][j] * diff;
                 }
                 let gain = a + (a * a + b * b).sqrt();
-                if gain <= params.tolerance * 1e-3 || (!params.escape_saddle_points && b.abs() <= SADDLE_SLOPE) {
+                if gain <= params.tolerance * 1e-3 || (!params.escape_saddle_points && b.abs() <= params.flat_slope) {
                     continue;
                 }
                 largest_gain = largest_gain.max(gain);
@@ -225,7 +231,7 @@ pub fn localize_grid_orbitals(
             }
             m
         });
-        let result = boys(&dipoles, params);
+        let result = boys(&dipoles, &LocalizeParams { flat_slope: params.flat_slope.max(GRID_FLAT_SLOPE), ..params.clone() });
         let values: Vec<Vec<f64>> = channel.iter().map(|o| o.values.clone()).collect();
         let suffix = match spin {
             Spin::Restricted => "",

@@ -11,7 +11,8 @@ pub mod summary;
 pub mod workflow;
 
 use crate::cache::ResultCache;
-use crate::calculation::{FileFailure, FileJob, Outcome, run_files, split};
+use crate::calculation::{FileFailure, FileJob, Outcome, analyse_localized, count_orbitals, run_files, split};
+use std::path::PathBuf;
 use crate::inspect::{FileInspection, InspectParams, inspect_file};
 use crate::par::Parallelism;
 use crate::diagnostics::{Engine, EngineParams, Ranking};
@@ -70,10 +71,9 @@ pub fn run(workflow: &Workflow, params: &BatchParams, progress: &dyn Progress) -
     };
     let jobs = jobs(workflow);
     let mut results = run_files(&jobs, &engine, cache.as_ref(), progress).into_iter();
-    workflow
-        .calculations
-        .iter()
-        .map(|c| {
+    let mut out = Vec::new();
+    for c in &workflow.calculations {
+        if c.orbitals.canonical() {
             let (orbitals, mut failures) = split(results.by_ref().take(c.files.len()).collect());
             let density = c.density.as_ref().and_then(|path| {
                 match inspect_file(path, &c.files, &c.load, &InspectParams::default(), Parallelism::Rayon) {
@@ -85,16 +85,57 @@ pub fn run(workflow: &Workflow, params: &BatchParams, progress: &dyn Progress) -
                 }
             });
             let ranking = Ranking::new(orbitals, workflow.rank_by);
-            CalculationResult { name: c.name.clone(), tags: c.tags.clone(), outcome: Outcome { ranking, failures }, density }
-        })
-        .collect()
+            out.push(CalculationResult {
+                name: c.name.clone(),
+                tags: c.tags.clone(),
+                outcome: Outcome { ranking, failures, localization: Vec::new() },
+                density,
+            });
+        }
+        if c.orbitals.localized() {
+            // Localization mixes the orbitals of all the calculation's files, so it runs as one
+            // unit of work (not cached: a rotation is cheap beside the integrals it feeds).
+            let name = localized_name(&c.name);
+            let job = FileJob { calculation: name.clone(), path: PathBuf::from(format!("{} file(s), localized", c.files.len())), load: c.load.clone() };
+            progress.file_started(&job);
+            let outcome = analyse_localized(&c.files, &c.load, &engine, &c.localize, workflow.rank_by, Parallelism::Rayon);
+            match outcome.failures.first() {
+                Some(f) => progress.file_failed(&job, &f.error),
+                None => progress.file_done(&job, outcome.ranking.orbitals.len(), 0),
+            }
+            out.push(CalculationResult { name, tags: c.tags.clone(), outcome, density: None });
+        }
+    }
+    out
 }
 
-/// Every file of the workflow as a job, calculation by calculation.
+/// The name under which a calculation's localized orbitals are reported.
+pub fn localized_name(name: &str) -> String {
+    format!("{name} (localized)")
+}
+
+/// Orbital reports a run of `workflow` will produce (for progress totals): every file's orbitals
+/// once per orbital set analysed.
+pub fn expected_orbitals(workflow: &Workflow) -> usize {
+    workflow
+        .calculations
+        .iter()
+        .map(|c| {
+            let per_set = count_orbitals(
+                &c.files.iter().map(|f| FileJob { calculation: c.name.clone(), path: f.clone(), load: c.load.clone() }).collect::<Vec<_>>(),
+            );
+            per_set * (usize::from(c.orbitals.canonical()) + usize::from(c.orbitals.localized()))
+        })
+        .sum()
+}
+
+/// Every file of the workflow whose canonical orbitals are analysed, as a job, calculation by
+/// calculation.
 pub fn jobs(workflow: &Workflow) -> Vec<FileJob> {
     workflow
         .calculations
         .iter()
+        .filter(|c| c.orbitals.canonical())
         .flat_map(|c| c.files.iter().map(|f| FileJob { calculation: c.name.clone(), path: f.clone(), load: c.load.clone() }))
         .collect()
 }

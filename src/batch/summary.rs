@@ -168,7 +168,7 @@ mod tests {
         CalculationResult {
             name: name.into(),
             tags: tags.iter().map(|t| t.to_string()).collect(),
-            outcome: Outcome { ranking: Ranking::new(orbitals, 0), failures },
+            outcome: Outcome { ranking: Ranking::new(orbitals, 0), failures, localization: Vec::new() },
             density: None,
         }
     }

@@ -12,6 +12,8 @@
 //!     grid_level: default            # optional, basis-set (molden) files: coarse | default | fine
 //!     uniform_grid: 0.15             # optional, basis-set files: sample on a uniform grid of this
 //!                                    #   spacing (bohr) and take the grid-file path instead
+//!     orbitals: canonical            # optional: canonical (default) | localized | both
+//!     keep_symmetry: false           # optional: localize without mixing symmetries
 //! models: [lsda, blyp, xalpha=0.75]  # named models, xalpha=VALUE, or custom ones below
 //! custom_models:                     # optional, as in a models file
 //!   - {name: xa-vwn, exchange: xalpha, alpha: 0.7, correlation: vwn5}
@@ -34,7 +36,9 @@
 //! value is deserialised, so that every error carries the YAML line and column.
 
 use crate::diagnostics::Spin;
+use crate::calculation::OrbitalSets;
 use crate::input::{Kind, LoadParams, SpinRule};
+use crate::localize::LocalizeParams;
 use crate::molecular::{MIN_UNIFORM_SPACING, MolecularParams};
 use crate::molgrid::GridLevel;
 use crate::report::EnergyUnit;
@@ -82,6 +86,10 @@ pub struct CalculationPlan {
     pub load: LoadParams,
     /// Its orbital files (grid or basis-set), in pattern order, each pattern's matches sorted.
     pub files: Vec<PathBuf>,
+    /// Which orbital sets are analysed (the localized set reports as `NAME (localized)`).
+    pub orbitals: OrbitalSets,
+    /// How localized orbitals are formed.
+    pub localize: LocalizeParams,
     /// Its total-density file, checked against its atoms and its orbitals, if given.
     pub density: Option<PathBuf>,
 }
@@ -252,7 +260,20 @@ struct CalculationSpec {
     #[serde(default)]
     grid_level: GridLevelSpec,
     #[serde(default)]
+    orbitals: OrbitalsSpec,
+    #[serde(default)]
+    keep_symmetry: bool,
+    #[serde(default)]
     uniform_grid: Option<Spacing>,
+}
+
+#[derive(Clone, Copy, Debug, Default, Deserialize)]
+#[serde(rename_all = "lowercase")]
+enum OrbitalsSpec {
+    #[default]
+    Canonical,
+    Localized,
+    Both,
 }
 
 #[derive(Clone, Copy, Debug, Default, Deserialize)]
@@ -486,6 +507,12 @@ impl Workflow {
                     tags: c.tags,
                     load: LoadParams { kind, spin, occupation, molecular, ..LoadParams::default() },
                     files,
+                    orbitals: match c.orbitals {
+                        OrbitalsSpec::Canonical => OrbitalSets::Canonical,
+                        OrbitalsSpec::Localized => OrbitalSets::Localized,
+                        OrbitalsSpec::Both => OrbitalSets::Both,
+                    },
+                    localize: LocalizeParams { escape_saddle_points: !c.keep_symmetry, ..LocalizeParams::default() },
                     density: c.density.map(|d| d.0),
                 }
             })

@@ -6,8 +6,7 @@ use anyhow::Context;
 use clap::Args;
 use serde_json::json;
 use sixray::batch::summary::SetSummary;
-use sixray::batch::{BatchParams, Workflow, jobs, run};
-use sixray::calculation::count_orbitals;
+use sixray::batch::{BatchParams, Workflow, expected_orbitals, run};
 use sixray::report::batch::{BatchReport, write};
 use sixray::report::html::ReportDate;
 use std::path::PathBuf;
@@ -50,7 +49,7 @@ pub fn run_batch(args: BatchArgs, threads: Option<usize>) -> anyhow::Result<Stat
         workflow.report.dir = dir;
     }
     workflow.report.date = args.date;
-    let display = Display::new(count_orbitals(&jobs(&workflow)), args.quiet);
+    let display = Display::new(expected_orbitals(&workflow), args.quiet);
     let params = BatchParams { fresh: args.fresh, ..BatchParams::default() };
     let results = in_pool(threads.or(workflow.threads), || Ok(run(&workflow, &params, &display)))?;
     display.finish();

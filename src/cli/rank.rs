@@ -3,7 +3,10 @@
 use super::Status;
 use anyhow::{Context, bail};
 use clap::{Args, ValueEnum};
-use sixray::calculation::analyse_files;
+use sixray::calculation::{OrbitalSets, Outcome, analyse_files, analyse_localized};
+use sixray::diagnostics::OrbitalSet;
+use sixray::localize::LocalizeParams;
+use sixray::par::Parallelism;
 use sixray::diagnostics::{Engine, EngineParams, Spin};
 use sixray::input::{Kind, LoadParams, SpinRule};
 use sixray::molecular::{MIN_UNIFORM_SPACING, MolecularParams};
@@ -55,6 +58,16 @@ pub struct RankArgs {
     #[arg(long = "grid", value_name = "SPACING")]
     uniform_grid: Option<f64>,
 
+    /// Which orbitals to rank: as in the files, Foster–Boys localized within each spin channel
+    /// (all grid files together; each basis-set file on its own), or both (two rankings).
+    #[arg(long, value_enum, default_value_t = OrbitalsArg::Canonical)]
+    orbitals: OrbitalsArg,
+
+    /// Localize without mixing orbitals of different symmetry: stop at the stationary point a
+    /// gradient-driven optimiser reaches from the canonical orbitals, not the largest L.
+    #[arg(long)]
+    keep_symmetry: bool,
+
     /// Output format.
     #[arg(short, long, value_enum, default_value_t = Format::Table)]
     format: Format,
@@ -95,6 +108,13 @@ pub struct RankArgs {
 enum KindArg {
     Amplitude,
     Density,
+}
+
+#[derive(Clone, Copy, Debug, ValueEnum)]
+enum OrbitalsArg {
+    Canonical,
+    Localized,
+    Both,
 }
 
 #[derive(Clone, Copy, Debug, ValueEnum)]
@@ -185,33 +205,42 @@ pub fn run(args: RankArgs) -> anyhow::Result<Status> {
     let trust = TrustParams { error_bars: !args.no_error_bars, tolerance: args.tolerance * 1e-3 };
     let params = EngineParams { trust, cusp_correction: !args.no_cusp_correction, ..EngineParams::default() };
     let engine = Engine::new(models, params);
-    let outcome = analyse_files(&args.files, &load, &engine, rank_by);
-    for f in &outcome.failures {
-        eprintln!("sixray: error: {}", f.error);
-    }
-    for w in outcome.ranking.orbitals.iter().filter_map(|o| report::kind_warning(o, load.kind)) {
-        eprintln!("sixray: warning: {w}");
-    }
-    let report = Report { models: engine.models(), outcome: &outcome, top: args.top };
-    let text = match args.format {
-        Format::Table => report::text::render_table(&report, args.units),
-        Format::Markdown => report::text::render_markdown(&report, args.units),
-        Format::Json => report::json::render(&report),
-        Format::Csv => report::csv::render(&report),
+    let sets = match args.orbitals {
+        OrbitalsArg::Canonical => OrbitalSets::Canonical,
+        OrbitalsArg::Localized => OrbitalSets::Localized,
+        OrbitalsArg::Both => OrbitalSets::Both,
     };
+    let localize = LocalizeParams { escape_saddle_points: !args.keep_symmetry, ..LocalizeParams::default() };
+    let mut outcomes: Vec<(OrbitalSet, Outcome)> = Vec::new();
+    if sets.canonical() {
+        outcomes.push((OrbitalSet::Canonical, analyse_files(&args.files, &load, &engine, rank_by)));
+    }
+    if sets.localized() {
+        outcomes.push((OrbitalSet::Localized, analyse_localized(&args.files, &load, &engine, &localize, rank_by, Parallelism::Rayon)));
+    }
+    for (_, outcome) in &outcomes {
+        for f in &outcome.failures {
+            eprintln!("sixray: error: {}", f.error);
+        }
+        for w in outcome.ranking.orbitals.iter().filter_map(|o| report::kind_warning(o, load.kind)) {
+            eprintln!("sixray: warning: {w}");
+        }
+    }
+    let reports: Vec<(OrbitalSet, Report)> =
+        outcomes.iter().map(|(set, outcome)| (*set, Report { models: engine.models(), outcome, top: args.top })).collect();
+    let text = render(&reports, args.format, args.units);
     match &args.output {
         Some(path) => report::write_atomic(path, text.as_bytes()).with_context(|| format!("writing {}", path.display()))?,
         None => print!("{text}"),
     }
-    if !outcome.failures.is_empty() {
+    if outcomes.iter().any(|(_, o)| !o.failures.is_empty()) {
         return Ok(Status::BadInput);
     }
     if let Some(limit) = args.fail_above {
         let model = &engine.models()[rank_by];
-        let over: Vec<_> = outcome
-            .ranking
-            .orbitals
+        let over: Vec<_> = outcomes
             .iter()
+            .flat_map(|(_, o)| &o.ranking.orbitals)
             .filter(|o| o.models[rank_by].self_interaction.abs() * args.units.per_hartree() > limit)
             .collect();
         if !over.is_empty() {
@@ -223,4 +252,47 @@ pub fn run(args: RankArgs) -> anyhow::Result<Status> {
         }
     }
     Ok(Status::Success)
+}
+
+/// One report per orbital set; with two, the table and Markdown show them one after the other
+/// under headings, the CSV holds the rows of both (its `set` column tells them apart) and the
+/// JSON is an object with a `canonical` and a `localized` report.
+fn render(reports: &[(OrbitalSet, Report)], format: Format, units: EnergyUnit) -> String {
+    let one = |r: &Report| match format {
+        Format::Table => report::text::render_table(r, units),
+        Format::Markdown => report::text::render_markdown(r, units),
+        Format::Json => report::json::render(r),
+        Format::Csv => report::csv::render(r),
+    };
+    if let [(_, r)] = reports {
+        return one(r);
+    }
+    match format {
+        Format::Json => {
+            let mut object = serde_json::Map::new();
+            for (set, r) in reports {
+                object.insert(set.as_str().to_string(), report::json::to_value(r));
+            }
+            report::json::pretty(&serde_json::Value::Object(object))
+        }
+        Format::Csv => {
+            let mut out = String::new();
+            for (k, (_, r)) in reports.iter().enumerate() {
+                let text = one(r);
+                // The header once.
+                out += if k == 0 { &text } else { text.split_once('\n').map_or("", |(_, rows)| rows) };
+            }
+            out
+        }
+        Format::Table | Format::Markdown => {
+            let heading = |set: OrbitalSet| {
+                let title = match set {
+                    OrbitalSet::Canonical => "Canonical orbitals",
+                    OrbitalSet::Localized => "Foster–Boys localized orbitals",
+                };
+                if matches!(format, Format::Markdown) { format!("**{title}**\n\n") } else { format!("{title}\n\n") }
+            };
+            reports.iter().map(|(set, r)| heading(*set) + &one(r)).collect::<Vec<_>>().join("\n")
+        }
+    }
 }

@@ -15,7 +15,8 @@
 //!   "calculations": [ {"name", "tags", "status": "ok" | "failed", "error" (when failed),
 //!                      "failures": [{"source", "error"}], "orbitals": [...as in rank],
 //!                      "totals": {MODEL: {"perdew_zunger", "mean_cancellation"}},
-//!                      "spin_orbitals", "density_check": (as one file of `inspect --format json`) or null} ] }
+//!                      "spin_orbitals", "density_check": (as one file of `inspect --format json`) or null,
+//!                      "localization": [...as in rank] } ] }
 //! ```
 //!
 //! Nothing in a report depends on timing or on the machine, so a rerun (from the cache or not)
@@ -129,6 +130,7 @@ pub fn to_value(report: &BatchReport) -> Value {
             map.insert("totals".into(), json::totals(&r));
             map.insert("spin_orbitals".into(), json!(c.outcome.ranking.spin_orbitals));
             map.insert("density_check".into(), c.density.as_ref().map_or(Value::Null, crate::inspect::render::file_json));
+            map.insert("localization".into(), json!(json::localization(&c.outcome.localization)));
             v
         })
         .collect::<Vec<_>>();
@@ -279,6 +281,19 @@ pub fn render_markdown(report: &BatchReport, unit: EnergyUnit) -> String {
             out += "**Failed**: the orbitals below are incomplete and excluded from the statistics above.\n\n";
             out += &markdown_failures(&c.outcome.failures);
             out += "\n";
+        }
+        for l in &c.outcome.localization {
+            let result = &l.channel.result;
+            out += &format!(
+                "Foster–Boys localization of {} {} orbitals (`{}`): L = Σ|⟨φ|r|φ⟩|² from {:.6} to {:.6} bohr² in {} sweeps{}.\n\n",
+                l.channel.orbitals,
+                l.channel.spin.as_str(),
+                l.source,
+                result.initial_functional,
+                result.functional,
+                result.sweeps,
+                if result.converged { "" } else { " (not converged)" }
+            );
         }
         if let Some(d) = &c.density {
             let i = &d.inspection;

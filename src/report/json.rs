@@ -11,11 +11,13 @@
 //!                  "cusp_correction": {"nuclei", "hartree", "models": {MODEL: {"exchange",
 //!                  "correlation"}}} or null} ],   // worst first; corrections: corrected − plain
 //!   "totals": {MODEL: {"perdew_zunger", "mean_cancellation"}}, "spin_orbitals": N,
-//!   "failures": [{"source", "error"}] }
+//!   "failures": [{"source", "error"}],
+//!   "localization": [{"source", "spin", "orbitals", "initial_functional", "functional",
+//!                     "sweeps", "converged"}] }   (localized orbitals only; L in bohr²)
 //! ```
 
 use super::Report;
-use crate::calculation::FileFailure;
+use crate::calculation::{FileFailure, LocalizationSummary};
 use crate::xc::Model;
 use serde_json::{Map, Value, json};
 
@@ -131,7 +133,28 @@ pub fn to_value(report: &Report) -> Value {
         "totals": totals(report),
         "spin_orbitals": ranking.spin_orbitals,
         "failures": failures(&report.outcome.failures),
+        "localization": localization(&report.outcome.localization),
     })
+}
+
+/// Per localized spin channel: files, spin, orbitals, L before and after (bohr²), sweeps,
+/// convergence.
+pub fn localization(summaries: &[LocalizationSummary]) -> Vec<Value> {
+    summaries
+        .iter()
+        .map(|l| {
+            let r = &l.channel.result;
+            json!({
+                "source": l.source,
+                "spin": l.channel.spin.as_str(),
+                "orbitals": l.channel.orbitals,
+                "initial_functional": r.initial_functional,
+                "functional": r.functional,
+                "sweeps": r.sweeps,
+                "converged": r.converged,
+            })
+        })
+        .collect()
 }
 
 /// Pretty-printed JSON text with a final newline.

@@ -139,6 +139,28 @@ fn caption(report: &Report, unit: EnergyUnit) -> String {
     )
 }
 
+/// One line per localized spin channel: its files, orbitals, L before and after, sweeps.
+fn localization_lines(report: &Report) -> Vec<String> {
+    report
+        .outcome
+        .localization
+        .iter()
+        .map(|l| {
+            let r = &l.channel.result;
+            format!(
+                "{} {} orbitals of {}: L {:.6} → {:.6} in {} sweeps{}",
+                l.channel.orbitals,
+                l.channel.spin.as_str(),
+                l.source,
+                r.initial_functional,
+                r.functional,
+                r.sweeps,
+                if r.converged { "" } else { " (NOT converged)" }
+            )
+        })
+        .collect()
+}
+
 /// The terminal table.
 pub fn render_table(report: &Report, unit: EnergyUnit) -> String {
     let mut t = orbital_table(unit);
@@ -160,6 +182,12 @@ pub fn render_table(report: &Report, unit: EnergyUnit) -> String {
     if !report.outcome.ranking.orbitals.is_empty() {
         out += &format!("Per model, over all {} spin-orbitals:\n\n", report.outcome.ranking.spin_orbitals);
         out += &totals_table(report, unit).plain("  ");
+    }
+    if !report.outcome.localization.is_empty() {
+        out += "\nFoster–Boys localization (L = Σ|⟨φ|r|φ⟩|², bohr²):\n";
+        for line in localization_lines(report) {
+            out += &format!("  {line}\n");
+        }
     }
     let failed = report.outcome.failures.len();
     if failed > 0 {
@@ -210,6 +238,12 @@ pub fn render_markdown(report: &Report, unit: EnergyUnit) -> String {
     let mut out = format!("# Self-interaction ranking\n\n{}.\n\n{}", caption(report, unit), markdown_orbitals(report, unit));
     out += "\n## Per model\n\n";
     out += &markdown_totals(report, unit);
+    if !report.outcome.localization.is_empty() {
+        out += "\n## Foster–Boys localization\n\nL = Σ|⟨φ|r|φ⟩|², bohr².\n\n";
+        for line in localization_lines(report) {
+            out += &format!("- {line}\n");
+        }
+    }
     if !report.outcome.failures.is_empty() {
         out += "\n## Files that could not be analysed\n\n";
         out += &markdown_failures(&report.outcome.failures);

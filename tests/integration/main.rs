@@ -10,5 +10,6 @@ mod cusp;
 mod functionals;
 mod html;
 mod inspect;
+mod localized;
 mod reference;
 mod trust;

@@ -51,6 +51,7 @@ fn calc(name: &str, tags: &[&str], orbitals: Vec<OrbitalReport>, failures: &[(&s
         outcome: Outcome {
             ranking: Ranking::new(orbitals, 0),
             failures: failures.iter().map(|(s, e)| FileFailure { source: s.to_string(), error: e.to_string() }).collect(),
+            localization: Vec::new(),
         },
         density: None,
     }
@@ -312,6 +313,8 @@ fn the_date_is_the_callers_or_the_newest_input() {
         tags: Vec::new(),
         load: Default::default(),
         files: vec![grid.clone()],
+        orbitals: Default::default(),
+        localize: Default::default(),
         density: None,
     });
     // Day 19 500 after 1970-01-01 is 2023-05-23 (reference: GNU coreutils `date -u -d @1684800000 +%F`).
