@@ -297,8 +297,10 @@ const XC_TOLERANCE: f64 = 1e-6;
 /// B88 exchange alone: its energy density has a kink on every nodal surface of an orbital
 /// (e ∝ |∇n| / ln(1/d) at a distance d from the surface, since x = |∇n|/n^{4/3} diverges there),
 /// so any product or Lebedev angular rule converges only as 1/n² with oscillations; ours moves
-/// by up to 2e-5 Eh between angular orders 45 and 90 on the π and 1b orbitals, and a rule of the
-/// reference grid's size cannot do better. Measured worst deviation: 2.9e-5 Eh (water 1b₁).
+/// by up to 2e-5 Eh between angular orders 45 and 90 on the π and 1b orbitals, and the reference
+/// moves by 1.5e-5 and 2.0e-5 Eh (water 1b₂, 1b₁) when recomputed on finer grids (reference:
+/// PySCF 2.14 / libxc through tools/b88_grid_convergence.py, run once; README, *Gaussian basis
+/// sets*). Measured worst deviation: 2.9e-5 Eh (water 1b₁).
 const B88_TOLERANCE: f64 = 5e-5;
 /// What the reference itself may be off by (its Becke grid has the same limitation, milder for
 /// smooth integrands): error bars must cover |ours − reference| up to this.
