@@ -46,9 +46,9 @@ pub struct MolecularParams {
     pub uniform_margin: f64,
 }
 
-/// Finest uniform spacing accepted, bohr (0.05 bohr over a 20-bohr box is already 6.4·10⁷
-/// points per orbital).
-pub const MIN_UNIFORM_SPACING: f64 = 0.05;
+/// Finest uniform spacing accepted, bohr: 0.1 bohr over a 20-bohr box is 8·10⁶ points per
+/// orbital, and the free-space Coulomb solver pads that eightfold.
+pub const MIN_UNIFORM_SPACING: f64 = 0.1;
 
 impl Default for MolecularParams {
     fn default() -> Self {
@@ -67,6 +67,10 @@ pub fn occupied_orbitals(path: &Path) -> Result<Vec<(String, Option<f64>)>, Basi
 
 /// Error bar of a grid integral per unit of its change from the neighbouring level (module docs).
 const GRID_BAR_FACTOR: f64 = 2.0;
+
+/// Points per evaluation pass when sampling on a uniform grid (bounds the gradients the basis
+/// evaluator returns alongside the values: 32 bytes per point and orbital).
+const SAMPLING_CHUNK: usize = 1 << 20;
 
 /// Orbitals evaluated per pass over the grid (bounds memory: four values per point each).
 const ORBITAL_BATCH: usize = 8;
@@ -326,17 +330,10 @@ pub fn sample_molden(path: &Path, spacing: f64, margin: f64, par: Parallelism) -
     let axes = [[spacing, 0.0, 0.0], [0.0, spacing, 0.0], [0.0, 0.0, spacing]];
     let geometry = GridGeometry::new(lo, axes, shape)
         .map_err(|e| BasisError::Invalid { path: Some(path.to_path_buf()), line: None, message: format!("no uniform grid: {e}") })?;
-    let points: Vec<[f64; 3]> = {
-        let mut p = Vec::with_capacity(geometry.len());
-        for i in 0..shape[0] {
-            for j in 0..shape[1] {
-                for k in 0..shape[2] {
-                    p.push(geometry.point([i, j, k]));
-                }
-            }
-        }
-        p
-    };
+    // Points in storage order (k fastest), made and evaluated a slab at a time so that memory
+    // holds the values and one slab's points and gradients, not the whole grid's.
+    let slab = shape[1] * shape[2];
+    let slabs_per_chunk = (SAMPLING_CHUNK / slab).max(1);
     let nuclei: Arc<[Nucleus]> = basis
         .atoms
         .iter()
@@ -347,7 +344,17 @@ pub fn sample_molden(path: &Path, spacing: f64, margin: f64, par: Parallelism) -
     let mut out = Vec::with_capacity(occupied.len());
     for batch in occupied.chunks(ORBITAL_BATCH) {
         let coefficients: Vec<&[f64]> = batch.iter().map(|o| o.coefficients.as_slice()).collect();
-        for (o, v) in batch.iter().zip(basis.orbital_values(&coefficients, &points, par)) {
+        let mut values: Vec<Vec<f64>> = batch.iter().map(|_| Vec::with_capacity(geometry.len())).collect();
+        for first in (0..shape[0]).step_by(slabs_per_chunk) {
+            let points: Vec<[f64; 3]> = (first..(first + slabs_per_chunk).min(shape[0]))
+                .flat_map(|i| (0..shape[1]).flat_map(move |j| (0..shape[2]).map(move |k| [i, j, k])))
+                .map(|ijk| geometry.point(ijk))
+                .collect();
+            for (v, chunk) in values.iter_mut().zip(basis.orbital_values(&coefficients, &points, par)) {
+                v.extend(chunk.values);
+            }
+        }
+        for (o, values) in batch.iter().zip(values) {
             out.push(GridOrbital {
                 source: path.display().to_string(),
                 label: o.label.clone(),
@@ -356,7 +363,7 @@ pub fn sample_molden(path: &Path, spacing: f64, margin: f64, par: Parallelism) -
                 geometry: geometry.clone(),
                 nuclei: nuclei.clone(),
                 kind: Kind::Amplitude,
-                values: v.values,
+                values,
             });
         }
     }
