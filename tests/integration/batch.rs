@@ -59,8 +59,13 @@ fn demo_workflow_reports_agree_with_rank() {
 
     let report = read_json(&out.join("report.json"));
     let calcs = report["calculations"].as_array().unwrap();
-    assert_eq!(calcs.len(), 4);
+    // Four calculations, water's localized orbitals a fifth.
+    assert_eq!(calcs.len(), 5);
     assert!(calcs.iter().all(|c| c["status"] == "ok"));
+    let localized = calcs.iter().find(|c| c["name"] == "water (localized)").expect("water's localized set");
+    assert_eq!(localized["orbitals"].as_array().unwrap().len(), 5);
+    assert!(localized["orbitals"].as_array().unwrap().iter().all(|o| o["set"] == "localized"));
+    assert_eq!(localized["localization"][0]["converged"], true);
     let models: Vec<String> = report["models"].as_array().unwrap().iter().map(|m| m["name"].as_str().unwrap().into()).collect();
     assert!(models.contains(&"slater-vwn5".to_string()), "custom model listed: {models:?}");
 
@@ -80,7 +85,7 @@ fn demo_workflow_reports_agree_with_rank() {
         assert_eq!(a["models"]["pbe"], b["models"]["pbe"]);
     }
     // Every calculation's Perdew–Zunger correction is there, and the summary covers the set.
-    assert_eq!(report["summary"]["completed"], 4);
+    assert_eq!(report["summary"]["completed"], 5);
     let radical = calcs.iter().find(|c| c["name"] == "hydroxyl radical").unwrap();
     assert_eq!(radical["spin_orbitals"], 9);
     assert!(radical["totals"]["lsda"]["perdew_zunger"].is_f64());
