@@ -296,6 +296,20 @@ mod tests {
         assert!((loc.functional - 8.0).abs() < 1e-6, "{}", loc.functional);
     }
 
+    /// Two orbitals with equal centroids and a transition dipole: L has zero slope at the start
+    /// (B = 0) but rotating by 45° gains (A = 1): a saddle. The default crosses it (L 0 → 2,
+    /// the orbitals then centred at ±1 on x); keeping symmetry leaves it (L stays 0).
+    #[test]
+    fn saddle_points_are_crossed_unless_asked_not_to() {
+        let zero = vec![vec![0.0; 2]; 2];
+        let d = [vec![vec![0.0, 1.0], vec![1.0, 0.0]], zero.clone(), zero];
+        let crossed = boys(&d, &LocalizeParams::default());
+        assert!(crossed.converged && (crossed.functional - 2.0).abs() < 1e-12, "{crossed:?}");
+        let kept = boys(&d, &LocalizeParams { escape_saddle_points: false, ..LocalizeParams::default() });
+        assert!(kept.converged && kept.functional.abs() < 1e-15, "{kept:?}");
+        assert_eq!(kept.rotation, vec![vec![1.0, 0.0], vec![0.0, 1.0]]);
+    }
+
     #[test]
     fn rotation_stays_orthogonal_and_l_never_drops() {
         // Random symmetric dipole matrices of 6 orbitals.
