@@ -5,10 +5,7 @@
 use serde_json::Value;
 use std::path::{Path, PathBuf};
 use std::process::{Command, Output};
-
-fn sixray(args: &[&str], dir: &Path) -> Output {
-    Command::new(env!("CARGO_BIN_EXE_sixray")).args(args).current_dir(dir).output().expect("run sixray")
-}
+use crate::common::{number, sixray, stderr};
 
 fn data(name: &str) -> PathBuf {
     PathBuf::from(env!("CARGO_MANIFEST_DIR")).join("tests/data/basis").join(name)
@@ -17,10 +14,6 @@ fn data(name: &str) -> PathBuf {
 fn json(o: &Output) -> Value {
     serde_json::from_slice(&o.stdout)
         .unwrap_or_else(|e| panic!("{e}: {}\n{}", String::from_utf8_lossy(&o.stdout), String::from_utf8_lossy(&o.stderr)))
-}
-
-fn stderr(o: &Output) -> String {
-    String::from_utf8_lossy(&o.stderr).into_owned()
 }
 
 /// `rank -f json` of `files` with `extra` arguments, in `dir`; must succeed.
@@ -44,10 +37,6 @@ fn orbitals_of(report: &Value, file: &Path) -> Vec<Value> {
         .collect();
     o.sort_by(|a, b| a["label"].as_str().cmp(&b["label"].as_str()));
     o
-}
-
-fn number(v: &Value) -> f64 {
-    v.as_f64().unwrap_or_else(|| panic!("not a number: {v}"))
 }
 
 // reference: PySCF 2.14 / libcint, tests/data/basis/spherical.json (exact J of each orbital)

@@ -3,19 +3,12 @@
 
 use serde_json::Value;
 use std::path::{Path, PathBuf};
-use std::process::{Command, Output, Stdio};
+use std::process::{Command, Stdio};
 use std::time::{Duration, Instant};
-
-fn sixray(args: &[&str], dir: &Path) -> Output {
-    Command::new(env!("CARGO_BIN_EXE_sixray")).args(args).current_dir(dir).output().expect("run sixray")
-}
+use crate::common::{sixray, stderr};
 
 fn root() -> PathBuf {
     PathBuf::from(env!("CARGO_MANIFEST_DIR"))
-}
-
-fn stderr(o: &Output) -> String {
-    String::from_utf8_lossy(&o.stderr).into_owned()
 }
 
 fn read_json(path: &Path) -> Value {

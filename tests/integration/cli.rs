@@ -3,22 +3,11 @@
 use serde_json::Value;
 use std::fmt::Write as _;
 use std::path::{Path, PathBuf};
-use std::process::{Command, Output};
-
-fn sixray(args: &[&str], dir: &Path) -> Output {
-    Command::new(env!("CARGO_BIN_EXE_sixray")).args(args).current_dir(dir).output().expect("run sixray")
-}
+use std::process::Output;
+use crate::common::{sixray, stderr, stdout};
 
 fn samples() -> PathBuf {
     PathBuf::from(env!("CARGO_MANIFEST_DIR")).join("samples")
-}
-
-fn stdout(o: &Output) -> String {
-    String::from_utf8_lossy(&o.stdout).into_owned()
-}
-
-fn stderr(o: &Output) -> String {
-    String::from_utf8_lossy(&o.stderr).into_owned()
 }
 
 fn json(o: &Output) -> Value {

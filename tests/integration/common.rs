@@ -1,6 +1,27 @@
 //! Helpers shared by the integration tests.
 
-use std::path::PathBuf;
+use std::path::{Path, PathBuf};
+use std::process::{Command, Output};
+
+/// Runs the real `sixray` binary with `args` in `dir`.
+pub fn sixray(args: &[&str], dir: &Path) -> Output {
+    Command::new(env!("CARGO_BIN_EXE_sixray")).args(args).current_dir(dir).output().expect("run sixray")
+}
+
+/// Standard output as text.
+pub fn stdout(o: &Output) -> String {
+    String::from_utf8_lossy(&o.stdout).into_owned()
+}
+
+/// Standard error as text.
+pub fn stderr(o: &Output) -> String {
+    String::from_utf8_lossy(&o.stderr).into_owned()
+}
+
+/// A JSON number, or a panic naming what was there instead.
+pub fn number(v: &serde_json::Value) -> f64 {
+    v.as_f64().unwrap_or_else(|| panic!("not a number: {v}"))
+}
 
 /// The shared reference data beside the project root, or `None` (after printing a notice) where
 /// it is absent, so that tests needing it skip instead of failing.

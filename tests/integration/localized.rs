@@ -4,21 +4,14 @@
 use serde_json::Value;
 use std::fmt::Write as _;
 use std::path::{Path, PathBuf};
-use std::process::{Command, Output};
+use std::process::Output;
 
 use crate::common::shared_dir;
-
-fn sixray(args: &[&str], dir: &Path) -> Output {
-    Command::new(env!("CARGO_BIN_EXE_sixray")).args(args).current_dir(dir).output().expect("run sixray")
-}
+use crate::common::{number, sixray};
 
 fn json(o: &Output) -> Value {
     assert_eq!(o.status.code(), Some(0), "{}", String::from_utf8_lossy(&o.stderr));
     serde_json::from_slice(&o.stdout).unwrap_or_else(|e| panic!("{e}: {}", String::from_utf8_lossy(&o.stdout)))
-}
-
-fn number(v: &Value) -> f64 {
-    v.as_f64().unwrap_or_else(|| panic!("not a number: {v}"))
 }
 
 /// Two normalised Gaussian amplitudes g_± (exponent `a`, centres ±`d` on x) rotated by 45°,
