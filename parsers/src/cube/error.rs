@@ -32,8 +32,8 @@ impl CubeError {
     }
 }
 
-/// `PATH:LINE` or `PATH`.
-struct Location<'a>(&'a Path, Option<usize>);
+/// `PATH:LINE` or `PATH` (shared with the molden reader's errors).
+pub(crate) struct Location<'a>(pub(crate) &'a Path, pub(crate) Option<usize>);
 
 impl fmt::Display for Location<'_> {
     fn fmt(&self, f: &mut fmt::Formatter<'_>) -> fmt::Result {

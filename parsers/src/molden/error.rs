@@ -1,7 +1,7 @@
 //! Errors raised while reading a molden file. Every error names the file and, where one
 //! applies, the 1-based line on which the problem was detected.
 
-use std::fmt;
+use crate::cube::error::Location;
 use std::path::{Path, PathBuf};
 
 /// A failure to read a molden file: where it happened and what went wrong.
@@ -25,18 +25,6 @@ impl MoldenError {
             path: path.to_path_buf(),
             line,
             kind,
-        }
-    }
-}
-
-/// `PATH:LINE` or `PATH`.
-struct Location<'a>(&'a Path, Option<usize>);
-
-impl fmt::Display for Location<'_> {
-    fn fmt(&self, f: &mut fmt::Formatter<'_>) -> fmt::Result {
-        match self.1 {
-            Some(line) => write!(f, "{}:{line}", self.0.display()),
-            None => write!(f, "{}", self.0.display()),
         }
     }
 }
