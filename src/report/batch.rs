@@ -23,7 +23,7 @@
 //! writes the same bytes. (`report.html` shows a date: the caller's, or the newest modification
 //! date among the input files, which a rerun does not change.)
 
-use super::text::{Table, markdown_failures, markdown_orbitals, markdown_totals};
+use super::text::{Table, localization_line, markdown_failures, markdown_orbitals, markdown_totals};
 use super::{EnergyUnit, Report, csv, flags_text, html, json, write_atomic};
 use crate::batch::summary::{ModelStats, SetSummary};
 use crate::batch::{CalculationResult, ReportFormat, Workflow};
@@ -283,17 +283,7 @@ pub fn render_markdown(report: &BatchReport, unit: EnergyUnit) -> String {
             out += "\n";
         }
         for l in &c.outcome.localization {
-            let result = &l.channel.result;
-            out += &format!(
-                "Foster–Boys localization of {} {} orbitals (`{}`): L = Σ|⟨φ|r|φ⟩|² from {:.6} to {:.6} bohr² in {} sweeps{}.\n\n",
-                l.channel.orbitals,
-                l.channel.spin.as_str(),
-                l.source,
-                result.initial_functional,
-                result.functional,
-                result.sweeps,
-                if result.converged { "" } else { " (not converged)" }
-            );
+            out += &format!("Foster–Boys localization of {}.\n\n", localization_line(l));
         }
         if let Some(d) = &c.density {
             let i = &d.inspection;

@@ -4,6 +4,7 @@
 //! every energy, since documents can be wide.
 
 use super::{EnergyUnit, Report, flags_text};
+use crate::calculation::LocalizationSummary;
 use crate::diagnostics::OrbitalReport;
 
 /// A table of text cells with per-column alignment (true: right-aligned).
@@ -139,26 +140,19 @@ fn caption(report: &Report, unit: EnergyUnit) -> String {
     )
 }
 
-/// One line per localized spin channel: its files, orbitals, L before and after, sweeps.
-fn localization_lines(report: &Report) -> Vec<String> {
-    report
-        .outcome
-        .localization
-        .iter()
-        .map(|l| {
-            let r = &l.channel.result;
-            format!(
-                "{} {} orbitals of {}: L {:.6} → {:.6} in {} sweeps{}",
-                l.channel.orbitals,
-                l.channel.spin.as_str(),
-                l.source,
-                r.initial_functional,
-                r.functional,
-                r.sweeps,
-                if r.converged { "" } else { " (NOT converged)" }
-            )
-        })
-        .collect()
+/// One localized spin channel in words: orbitals, spin, files, L before and after, sweeps.
+pub fn localization_line(l: &LocalizationSummary) -> String {
+    let r = &l.channel.result;
+    format!(
+        "{} {} orbitals of {}: L {:.6} → {:.6} bohr² in {} sweeps{}",
+        l.channel.orbitals,
+        l.channel.spin.as_str(),
+        l.source,
+        r.initial_functional,
+        r.functional,
+        r.sweeps,
+        if r.converged { "" } else { " (NOT converged)" }
+    )
 }
 
 /// The terminal table.
@@ -185,8 +179,8 @@ pub fn render_table(report: &Report, unit: EnergyUnit) -> String {
     }
     if !report.outcome.localization.is_empty() {
         out += "\nFoster–Boys localization (L = Σ|⟨φ|r|φ⟩|², bohr²):\n";
-        for line in localization_lines(report) {
-            out += &format!("  {line}\n");
+        for l in &report.outcome.localization {
+            out += &format!("  {}\n", localization_line(l));
         }
     }
     let failed = report.outcome.failures.len();
@@ -240,8 +234,8 @@ pub fn render_markdown(report: &Report, unit: EnergyUnit) -> String {
     out += &markdown_totals(report, unit);
     if !report.outcome.localization.is_empty() {
         out += "\n## Foster–Boys localization\n\nL = Σ|⟨φ|r|φ⟩|², bohr².\n\n";
-        for line in localization_lines(report) {
-            out += &format!("- {line}\n");
+        for l in &report.outcome.localization {
+            out += &format!("- {}\n", localization_line(l));
         }
     }
     if !report.outcome.failures.is_empty() {
