@@ -120,12 +120,7 @@ pub fn expected_orbitals(workflow: &Workflow) -> usize {
     workflow
         .calculations
         .iter()
-        .map(|c| {
-            let per_set = count_orbitals(
-                &c.files.iter().map(|f| FileJob { calculation: c.name.clone(), path: f.clone(), load: c.load.clone() }).collect::<Vec<_>>(),
-            );
-            per_set * (usize::from(c.orbitals.canonical()) + usize::from(c.orbitals.localized()))
-        })
+        .map(|c| count_orbitals(&calculation_jobs(c)) * (usize::from(c.orbitals.canonical()) + usize::from(c.orbitals.localized())))
         .sum()
 }
 
@@ -136,6 +131,11 @@ pub fn jobs(workflow: &Workflow) -> Vec<FileJob> {
         .calculations
         .iter()
         .filter(|c| c.orbitals.canonical())
-        .flat_map(|c| c.files.iter().map(|f| FileJob { calculation: c.name.clone(), path: f.clone(), load: c.load.clone() }))
+        .flat_map(calculation_jobs)
         .collect()
+}
+
+/// One calculation's files as jobs.
+fn calculation_jobs(c: &workflow::CalculationPlan) -> Vec<FileJob> {
+    c.files.iter().map(|f| FileJob { calculation: c.name.clone(), path: f.clone(), load: c.load.clone() }).collect()
 }
