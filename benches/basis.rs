@@ -13,9 +13,11 @@
 //!
 //! Each timing is the best of several runs.
 
+mod common;
+
+use common::best;
 use std::io::Write;
 use std::path::PathBuf;
-use std::time::{Duration, Instant};
 
 use sixray::basis::coulomb::{CoulombParams, self_energies_with};
 use sixray::basis::{self};
@@ -24,18 +26,6 @@ use sixray::molecular::{MolecularParams, analyse_molden};
 use sixray::molgrid::{GridAtom, GridLevel, MolecularGrid};
 use sixray::par::Parallelism;
 use sixray::xc::Model;
-
-fn best<T>(runs: usize, mut f: impl FnMut() -> T) -> (Duration, T) {
-    let mut out = None;
-    let mut best = Duration::MAX;
-    for _ in 0..runs {
-        let t = Instant::now();
-        let v = f();
-        best = best.min(t.elapsed());
-        out = Some(v);
-    }
-    (best, out.expect("at least one run"))
-}
 
 fn main() {
     let path = PathBuf::from(env!("CARGO_MANIFEST_DIR")).join("../shared/reference/water/orbitals.molden");

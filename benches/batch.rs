@@ -11,6 +11,9 @@
 //! the overhead is their relative difference. Then the batch on all threads, for throughput.
 //! Each figure is the best of two runs.
 
+mod common;
+
+use common::best;
 use sixray::batch::summary::SetSummary;
 use sixray::batch::{BatchParams, Workflow, jobs, run};
 use sixray::calculation::count_orbitals;
@@ -20,18 +23,7 @@ use sixray::par::Parallelism;
 use sixray::progress::Silent;
 use sixray::report::batch::{BatchReport, write};
 use std::path::{Path, PathBuf};
-use std::time::{Duration, Instant};
 
-fn best(mut f: impl FnMut() -> usize) -> (Duration, usize) {
-    let mut best = Duration::MAX;
-    let mut n = 0;
-    for _ in 0..2 {
-        let t = Instant::now();
-        n = f();
-        best = best.min(t.elapsed());
-    }
-    (best, n)
-}
 
 fn whole_batch(path: &Path) -> usize {
     let workflow = Workflow::load(path).expect("valid workflow");
@@ -68,7 +60,7 @@ fn main() {
     let workflow = Workflow::load(&wf).expect("valid workflow");
     let one = rayon::ThreadPoolBuilder::new().num_threads(1).build().expect("pool");
     let (work, orbitals) = one.install(|| {
-        best(|| {
+        best(2, || {
             let engine = Engine::new(workflow.models.clone(), EngineParams::default());
             let mut n = 0;
             for job in jobs(&workflow) {
@@ -80,9 +72,9 @@ fn main() {
             n
         })
     });
-    let (batch, counted) = one.install(|| best(|| whole_batch(&wf)));
+    let (batch, counted) = one.install(|| best(2, || whole_batch(&wf)));
     assert_eq!(orbitals, counted);
-    let (parallel, _) = best(|| whole_batch(&wf));
+    let (parallel, _) = best(2, || whole_batch(&wf));
 
     let threads = rayon::current_num_threads();
     println!("sixray batch benchmark: {orbitals} orbitals of {} molecules, models lsda, pbe, scan\n", molecules.len());

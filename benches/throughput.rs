@@ -10,6 +10,9 @@
 //!
 //! Each timing is the best of several runs. The data are invented for the benchmark only.
 
+mod common;
+
+use common::best;
 use sixray::diagnostics::{Engine, EngineParams, GridOrbital, Kind, Spin};
 use sixray::grid::GridGeometry;
 use sixray::par::Parallelism;
@@ -19,7 +22,6 @@ use sixray_parsers::cube::{ReadParams, read_cube};
 use std::fmt::Write as _;
 use std::io::Write;
 use std::sync::Arc;
-use std::time::{Duration, Instant};
 
 const N: usize = 128;
 const H: f64 = 0.15;
@@ -57,18 +59,6 @@ fn cube_text(g: &GridGeometry) -> String {
         }
     }
     s
-}
-
-fn best<T>(runs: usize, mut f: impl FnMut() -> T) -> (Duration, T) {
-    let mut out = None;
-    let mut best = Duration::MAX;
-    for _ in 0..runs {
-        let t = Instant::now();
-        let v = f();
-        best = best.min(t.elapsed());
-        out = Some(v);
-    }
-    (best, out.expect("at least one run"))
 }
 
 fn peak_rss_mib() -> Option<f64> {
