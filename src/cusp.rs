@@ -25,21 +25,17 @@
 //! `C[m_A, m_B]` are radial integrals of m_A against the spherical average of m_B's potential.
 //! Only smooth functions meet the grid.
 //!
-//! **Exchange–correlation**: every functional's grid sum is corrected by the grid's error on the
-//! model, `ΔE_A = E_exact[W m_A] − E_grid[W m_A]`: the model is evaluated on the orbital's own
-//! points with the same finite-difference gradients, against its exact radial integral, inside a
-//! smooth window W (1 within 4h of the nucleus, 0 beyond 8h). The cusp's leading error, set by
-//! the jump of the radial derivative at R_A, is the same for n and for m_A, because n − m_A has
-//! none.
+//! **Exchange–correlation**: within a smooth window about each nucleus (1 within 4h, 0 beyond
+//! 8h) the grid sum is replaced by an atom-centred quadrature of the orbital rebuilt from the
+//! cusp functions and an interpolant of the smooth remainder (module `refine`). The window's
+//! points still count with weight 1 − W, so the total is exact in the limit of fine grids.
 
 use crate::diagnostics::{Engine, GridOrbital, Kind};
 use crate::grid::{GridGeometry, Nucleus, dot};
 use crate::par::Parallelism;
 use crate::quadrature::{gauss_legendre, radial_rule};
-use crate::xc::{DENSITY_FLOOR, Family, Functional, Part, XcPoint};
-use std::collections::HashMap;
+use crate::xc::Functional;
 use std::f64::consts::PI;
-use std::sync::Arc;
 
 /// Points within this many grid steps of the nucleus decide whether the data show a cusp.
 const EVIDENCE_STEPS: f64 = 3.01;
@@ -302,60 +298,36 @@ pub(crate) fn hartree(engine: &Engine, g: &GridGeometry, rho: &[f64], models: &[
     Ok(smooth + cross + exact)
 }
 
-/// The grid's signed error on the windowed model, per model of the engine: (exchange,
-/// correlation), hartree (grid minus exact; subtract it to correct).
-pub(crate) fn xc_deviation(model: &CuspModel, engine: &Engine, o: &GridOrbital) -> Vec<(f64, f64)> {
-    xc_deviation_for(model, engine, o, engine.models())
-}
-
-/// [`xc_deviation`] for the given models instead of the engine's.
-pub(crate) fn xc_deviation_for(model: &CuspModel, engine: &Engine, o: &GridOrbital, models: &[crate::xc::Model]) -> Vec<(f64, f64)> {
-    let g = &o.geometry;
-    let h = g.max_step();
-    let (r1, r2) = (WINDOW_INNER_STEPS * h, WINDOW_OUTER_STEPS * h);
-    let (z, a, f) = (model.z, model.amplitude, o.occupation);
-
-    // The model on the orbital's own points around the nucleus (margin for the stencils).
-    let margin = (engine.params().gradient.stencil as f64) * h;
-    let [(l0, h0), (l1, h1), (l2, h2)] = index_box(g, model.position, r2 + margin);
-    let shape = [h0 - l0 + 1, h1 - l1 + 1, h2 - l2 + 1];
-    let Ok(local) = GridGeometry::new(g.point([l0, l1, l2]), g.axes, shape) else {
-        return vec![(0.0, 0.0); engine.models().len()];
-    };
-    let values = local.sample(|p| {
-        let r = distance(p, model.position);
-        match o.kind {
-            Kind::Amplitude => a * (-z * r).exp(),
-            Kind::Density => a * a * (-2.0 * z * r).exp(),
-        }
-    });
-    let weights = local.sample(|p| window(distance(p, model.position), r1, r2));
-    let local_orbital = GridOrbital { geometry: Arc::new(local), values, ..o.clone() };
-    let m = local_orbital.density();
-    let needs_gradient = models.iter().any(|k| k.family() >= Family::Gga);
-    let sigma = needs_gradient.then(|| local_orbital.density_gradient_squared(&engine.params().gradient, Parallelism::Sequential));
-    let w = g.voxel_volume();
-    let rule = radial_rule(RADIAL_POINTS, r2);
-
-    let mut cache: HashMap<(Part, String), f64> = HashMap::new();
-    let mut error = |fu: &dyn Functional| -> f64 {
-        *cache.entry((fu.part(), fu.id())).or_insert_with(|| {
-            let e = |n: f64, s: f64| if n > DENSITY_FLOOR { fu.energy_density(&XcPoint::polarized(n, s, s / (8.0 * n))) } else { 0.0 };
-            let grid = w * (0..m.len())
-                .filter(|&k| weights[k] > 0.0)
-                .map(|k| weights[k] * e(m[k], sigma.as_ref().map_or(0.0, |s| s[k])))
-                .sum::<f64>();
-            let exact: f64 = rule
-                .iter()
-                .map(|&(r, wr)| {
-                    let n = f * a * a * (-2.0 * z * r).exp();
-                    wr * window(r, r1, r2) * e(n, (2.0 * z * n).powi(2))
-                })
-                .sum();
-            grid - exact
+/// Per model of `models`, the grid's error (exchange, correlation) near all the `cusps`, hartree
+/// (grid minus refined; subtract it to correct; module `refine`). `rho` and `grad_sq` are what the
+/// grid sums used.
+pub(crate) fn xc_deviation(
+    cusps: &[CuspModel],
+    orbital: &GridOrbital,
+    rho: &[f64],
+    grad_sq: Option<&[f64]>,
+    models: &[crate::xc::Model],
+    par: Parallelism,
+) -> Vec<(f64, f64)> {
+    // Each distinct functional once, however many models share it.
+    fn slot<'f>(f: &'f dyn Functional, distinct: &mut Vec<&'f dyn Functional>) -> usize {
+        distinct.iter().position(|d| d.part() == f.part() && d.id() == f.id()).unwrap_or_else(|| {
+            distinct.push(f);
+            distinct.len() - 1
         })
-    };
-    models.iter().map(|k| (error(k.exchange.as_ref()), k.correlation.as_deref().map_or(0.0, &mut error))).collect()
+    }
+    let mut distinct: Vec<&dyn Functional> = Vec::new();
+    let slots: Vec<(usize, Option<usize>)> = models
+        .iter()
+        .map(|m| (slot(m.exchange.as_ref(), &mut distinct), m.correlation.as_deref().map(|c| slot(c, &mut distinct))))
+        .collect();
+    let mut total = vec![0.0; distinct.len()];
+    for at in 0..cusps.len() {
+        for (t, d) in total.iter_mut().zip(refine::deviation(cusps, at, orbital, rho, grad_sq, &distinct, par)) {
+            *t += d;
+        }
+    }
+    slots.iter().map(|&(x, c)| (total[x], c.map_or(0.0, |c| total[c]))).collect()
 }
 
 /// Average of 1/r over a cube of unit edge centred on the origin (textbook value, quoted from
@@ -396,6 +368,8 @@ pub(crate) fn charge_deviation(model: &CuspModel, g: &GridGeometry) -> f64 {
     let exact: f64 = radial_rule(RADIAL_POINTS, r2).iter().map(|&(r, wr)| wr * window(r, r1, r2) * model.density(r)).sum();
     g.voxel_volume() * grid - exact
 }
+
+mod refine;
 
 #[cfg(test)]
 mod tests;

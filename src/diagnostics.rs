@@ -325,14 +325,15 @@ impl Engine {
         cell.get_or_init(|| Arc::new(HartreeSolver::new(geometry, &self.params.hartree, par))).clone()
     }
 
-    /// Grid sums of one orbital: norm, J and each model's energies, cusp-corrected when the
-    /// engine is set so and the orbital has s character at a listed nucleus. With `detail`, the
-    /// uncorrected J is computed as well (one more transform), to report the correction's size.
-    pub(crate) fn grid_sums(&self, orbital: &GridOrbital, par: Parallelism, detail: bool) -> Result<GridSums, DiagnosticsError> {
+    /// Grid sums of one orbital: norm, J and each model's energies. With `correct`, J is
+    /// cusp-corrected where the orbital has s character at a listed nucleus, and with
+    /// `refine_xc` too the functionals. With `detail`, the uncorrected J is computed as well
+    /// (one more transform), to report the correction's size.
+    pub(crate) fn grid_sums(&self, orbital: &GridOrbital, par: Parallelism, correct: bool, refine_xc: bool, detail: bool) -> Result<GridSums, DiagnosticsError> {
         let w = orbital.geometry.voxel_volume();
         let rho = orbital.density();
         let norm = w * par.chunked_sum(rho.len(), |r| rho[r].iter().sum());
-        let cusps: Vec<CuspModel> = if self.params.cusp_correction {
+        let cusps: Vec<CuspModel> = if correct {
             orbital.nuclei.iter().filter_map(|n| CuspModel::fit(orbital, n)).collect()
         } else {
             Vec::new()
@@ -359,18 +360,20 @@ impl Engine {
             .iter()
             .map(|m| (energy(m.exchange.as_ref()), m.correlation.as_deref().map_or(0.0, &mut energy)))
             .collect();
-        let correction = (!cusps.is_empty()).then(|| {
-            // Subtract the grid's error on each cusp model; LSDA exchange (for α*) likewise.
-            let lsda = [Model::from_name("lsda-x").expect("built-in")];
-            let mut applied = CuspCorrection { nuclei: cusps.len(), hartree: plain.map(|p| hartree - p), models: vec![(0.0, 0.0); models.len()] };
-            for c in &cusps {
-                for (k, (dx, dc)) in cusp::xc_deviation(c, self, orbital).into_iter().enumerate() {
-                    models[k].0 -= dx;
-                    models[k].1 -= dc;
-                    applied.models[k].0 -= dx;
-                    applied.models[k].1 -= dc;
-                }
-                lsda_exchange -= cusp::xc_deviation_for(c, self, orbital, &lsda)[0].0;
+        let correction = (!cusps.is_empty() && refine_xc).then(|| {
+            // Subtract the grid's error near the cusps; LSDA exchange (for α*) likewise.
+            let mut with_lsda = self.models.clone();
+            with_lsda.push(Model::from_name("lsda-x").expect("built-in"));
+            let mut deviations = cusp::xc_deviation(&cusps, orbital, &rho, grad_sq.as_deref(), &with_lsda, par);
+            lsda_exchange -= deviations.pop().expect("the LSDA entry").0;
+            let applied = CuspCorrection {
+                nuclei: cusps.len(),
+                hartree: plain.map(|p| hartree - p),
+                models: deviations.iter().map(|&(dx, dc)| (-dx, -dc)).collect(),
+            };
+            for (m, (dx, dc)) in models.iter_mut().zip(deviations) {
+                m.0 -= dx;
+                m.1 -= dc;
             }
             applied
         });
@@ -380,7 +383,7 @@ impl Engine {
     /// Analyses one spin-orbital: its energies and, unless switched off, their error bars and
     /// flags (see [`crate::trust`]).
     pub fn analyse(&self, orbital: &GridOrbital, par: Parallelism) -> Result<OrbitalReport, DiagnosticsError> {
-        let sums = self.grid_sums(orbital, par, true)?;
+        let sums = self.grid_sums(orbital, par, self.params.cusp_correction, true, true)?;
         let hartree = sums.hartree;
         let models = sums
             .models

@@ -179,7 +179,7 @@ impl MolecularGrid {
 
 /// The rotation (row-major 3 × 3) of the angular rule on radial shell `i`: Euler angles from a
 /// low-discrepancy sequence, so that successive shells sample rotations evenly.
-fn shell_rotation(i: usize) -> [[f64; 3]; 3] {
+pub(crate) fn shell_rotation(i: usize) -> [[f64; 3]; 3] {
     // Fractional parts of i times irrational numbers (the plastic number's powers, common
     // practice for 3-D low-discrepancy sequences).
     let g = 1.324_717_957_244_746_f64;
@@ -197,13 +197,13 @@ fn shell_rotation(i: usize) -> [[f64; 3]; 3] {
     ]
 }
 
-fn rotate(m: &[[f64; 3]; 3], u: [f64; 3]) -> [f64; 3] {
+pub(crate) fn rotate(m: &[[f64; 3]; 3], u: [f64; 3]) -> [f64; 3] {
     [0, 1, 2].map(|r| m[r][0] * u[0] + m[r][1] * u[1] + m[r][2] * u[2])
 }
 
 /// Unit vectors and weights (summing to 4π) of the product rule of order n: Gauss–Legendre in
 /// cos θ (n points) times the trapezoid rule in φ (2n points).
-fn angular_rule(n: usize) -> Vec<([f64; 3], f64)> {
+pub(crate) fn angular_rule(n: usize) -> Vec<([f64; 3], f64)> {
     let (x, w) = gauss_legendre(n);
     let m = 2 * n;
     let mut out = Vec::with_capacity(n * m);

@@ -1,7 +1,7 @@
 //! One-dimensional quadrature rules and radial integrals of spherical densities.
 //!
 //! Used as exact references for grid results (spherical model densities, analytic test
-//! densities) and, later, for cusp models near nuclei.
+//! densities) and for the cusp models' charges and Coulomb integrals.
 
 use crate::xc::{Functional, XcPoint};
 use std::f64::consts::PI;

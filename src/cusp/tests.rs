@@ -1,5 +1,6 @@
 use super::*;
 use crate::diagnostics::Spin;
+use std::sync::Arc;
 
 fn on_grid(h: f64, radius: f64, nuclei: Vec<Nucleus>, kind: Kind, value: impl Fn([f64; 3]) -> f64) -> GridOrbital {
     let g = GridGeometry::around([[h, 0.0, 0.0], [0.0, h, 0.0], [0.0, 0.0, h]], [0.0; 3], radius).unwrap();

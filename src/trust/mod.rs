@@ -5,7 +5,7 @@
 //!
 //! ```text
 //! σ_Q = max_k |Q_k(2h) − Q(h)| / 4       registration: the eight sub-lattices of every second point
-//!     + 2 |Q_grid[m] − Q_exact[m]|       cusps: a cusp model m at each nucleus (see `cusp`)
+//!     + 2 |ΔQ_cusp|                      cusps: what the cusp correction would change (see `cusp`)
 //!     + |Q_tail|                         box: the tail beyond the faces (see `truncation`)
 //!     + ε |Q|                            what none of the above models
 //! ```
@@ -18,7 +18,9 @@
 //! keeps a margin for orbitals that are not yet in that asymptotic regime. Registration alone
 //! misses cusps that sit symmetrically between sub-lattice points (all eight see them alike),
 //! hence the cusp term, doubled because it is a first-order model; and it cannot see charge
-//! beyond the box, hence the tail term.
+//! beyond the box, hence the tail term. With the cusp correction applied, the cusp term is a
+//! quarter of the correction instead, and the sub-lattice sums of the functionals are plain ones
+//! (see `sublattice`); J on the sub-lattices is corrected as on the whole grid.
 //!
 //! The last term covers errors the others do not model: integrands that are not smooth on
 //! nodal surfaces (gradient-corrected exchange most of all), and whatever differs between the grid
@@ -62,8 +64,8 @@ impl Default for TrustParams {
 
 /// Registration spreads are divided by this (see the module docs).
 const REGISTRATION_DIVISOR: f64 = 4.0;
-/// Without cusp correction, the cusp model's quadrature error is multiplied by this (a
-/// first-order model).
+/// Without cusp correction, what the correction would change is multiplied by this (a
+/// first-order estimate).
 const CUSP_FACTOR: f64 = 2.0;
 /// With cusp correction, this fraction of each correction is taken as its uncertainty.
 const CUSP_RESIDUAL: f64 = 0.25;
@@ -99,17 +101,17 @@ impl Deviation {
     }
 }
 
-/// The grid's error on the cusps of an uncorrected orbital, estimated on cusp models: every
-/// functional's error on the windowed model, and for J the first-order `δq · v(R_A)`.
-fn uncorrected_cusp_error(engine: &Engine, orbital: &GridOrbital, sums: &GridSums) -> Deviation {
+/// The grid's error on the cusps of an uncorrected orbital: for every functional, what the
+/// cusp correction would change; for J the first-order `δq · v(R_A)` on the cusp models.
+fn uncorrected_cusp_error(engine: &Engine, orbital: &GridOrbital, sums: &GridSums, par: Parallelism) -> Deviation {
     let mut total = Deviation::zero(engine.models().len());
-    for model in orbital.nuclei.iter().filter_map(|n| CuspModel::fit(orbital, n)) {
-        let g = &orbital.geometry;
-        total.hartree += cusp::charge_deviation(&model, g) * cusp::potential_at(g, &sums.rho, model.position);
-        for (t, d) in total.models.iter_mut().zip(cusp::xc_deviation(&model, engine, orbital)) {
-            t.0 += d.0;
-            t.1 += d.1;
-        }
+    let cusps: Vec<CuspModel> = orbital.nuclei.iter().filter_map(|n| CuspModel::fit(orbital, n)).collect();
+    let g = &orbital.geometry;
+    for model in &cusps {
+        total.hartree += cusp::charge_deviation(model, g) * cusp::potential_at(g, &sums.rho, model.position);
+    }
+    if !cusps.is_empty() {
+        total.models = cusp::xc_deviation(&cusps, orbital, &sums.rho, sums.grad_sq.as_deref(), engine.models(), par);
     }
     total
 }
@@ -132,7 +134,7 @@ pub(crate) fn assess(
         ),
         None if engine.params().cusp_correction => (Deviation::zero(models), 0.0),
         // Not corrected: the grid's error on the cusps, estimated on the models.
-        None => (uncorrected_cusp_error(engine, orbital, sums), CUSP_FACTOR),
+        None => (uncorrected_cusp_error(engine, orbital, sums, par), CUSP_FACTOR),
     };
     let tail = truncation::Tail::estimate(engine, orbital, sums);
 

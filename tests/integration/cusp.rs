@@ -22,7 +22,8 @@ fn engine(cusp_correction: bool) -> Engine {
 #[test]
 fn hydrogenic_cusps_are_corrected_on_and_off_grid_points() {
     // Hydrogenic 1s densities Z³/π e^{−2Zr}: J = 5Z/16 exactly (textbook); exchange by radial
-    // quadrature of our functionals, which match libxc 7.0.0 (see the functionals tests).
+    // quadrature of our functionals, which match libxc 7.0.0 (see the functionals tests). The
+    // target is 0.2 %; the correction reaches 1e-4, so the check holds it to 0.05 %.
     let (corrected, plain) = (engine(true), engine(false));
     let mut table = String::new();
     for (z, steps) in [(1.0f64, vec![0.2, 0.25]), (3.0, vec![0.1, 0.15, 0.25]), (8.0, vec![0.1, 0.15, 0.25])] {
@@ -57,7 +58,7 @@ fn hydrogenic_cusps_are_corrected_on_and_off_grid_points() {
                 for (k, name) in ["J", "lsda_x", "b88_x", "pbe_x"].iter().enumerate() {
                     let (ec, ep) = (c[k] / exact[k] - 1.0, p[k] / exact[k] - 1.0);
                     table += &format!("{} {name}: plain {:+.3} %, corrected {:+.3} %\n", orbital.label, 100.0 * ep, 100.0 * ec);
-                    assert!(ec.abs() < 2e-3, "{} {name}: corrected {ec:e} (plain {ep:e})", orbital.label);
+                    assert!(ec.abs() < 5e-4, "{} {name}: corrected {ec:e} (plain {ep:e})", orbital.label);
                 }
             }
         }

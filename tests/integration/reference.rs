@@ -151,15 +151,11 @@ const EXCHANGE: [&str; 7] = ["hartree_self", "lsda_x", "b88_x", "pbe_x", "pw91_x
 
 #[test]
 fn cusp_corrected_grid_self_energies_against_gaussian_integral_reference() {
-    // With the cusp correction (the default):
-    // - J and every exchange functional of every orbital within 2 % (cores included) and of
-    //   valence orbitals within 0.5 % (the targets), with two exceptions, checked differently:
-    //   lithium hydride's 2σ J is limited by the box, not the cusps (norm 0.989; the orbital must
-    //   be flagged truncated-box and its J error lie within its error bar), and gradient-
-    //   corrected exchange of valence orbitals is held to 0.6 %: the hydroxyl radical's α 2σ
-    //   (nucleus on a grid point) reaches 0.51 % with PW91, short of the target.
-    // - local correlation within 1 % (cores) and 0.5 % (valence); PBE correlation, the small
-    //   difference of two large terms (see the uncorrected test), within 12 % and 2.5 %.
+    // With the cusp correction (the default), J and every functional (exchange and correlation)
+    // of every orbital within 2 % (cores included) and of valence orbitals within 0.5 % (the
+    // targets), with one exception, checked differently: lithium hydride's 2σ J is limited by the
+    // box, not the cusps (norm 0.989; the orbital must be flagged truncated-box and its J error
+    // lie within its error bar).
     let Some(dirs) = molecule_dirs("cusp_corrected_grid_self_energies") else { return };
     let rows = rows_with(&dirs, true);
     print_table("With the cusp correction (relative error, %):", &rows);
@@ -168,14 +164,11 @@ fn cusp_corrected_grid_self_energies_against_gaussian_integral_reference() {
         let box_limited = row.flags.iter().any(|f| f == "truncated-box");
         match (err, key) {
             (None, _) => got.abs() < 1e-6,
-            (Some(e), "pbe_c") => e.abs() < if core { 0.12 } else { 0.025 },
-            (Some(e), "pw92_c" | "vwn5_c") => e.abs() < if core { 0.01 } else { 0.005 },
             (Some(_), "hartree_self") if box_limited && !core => {
                 let bar = row.bars[0];
                 (row.values[0].1 - row.values[0].2).abs() <= bar
             }
-            (Some(e), "hartree_self" | "lsda_x") => e.abs() < if core { 0.02 } else { 0.005 },
-            (Some(e), _) => e.abs() < if core { 0.02 } else { 0.006 },
+            (Some(e), _) => e.abs() < if core { 0.02 } else { 0.005 },
         }
     });
     compare_with_uncorrected(&dirs, &rows);
