@@ -29,6 +29,12 @@ pub fn file_digest(path: &Path) -> std::io::Result<blake3::Hash> {
     Ok(hasher.finalize())
 }
 
+/// Revision of the numerical methods: raise it with every change that alters computed numbers,
+/// so that results cached by an earlier build are not served as if current.
+/// History: 2 — exchange–correlation near cusps from the rebuilt orbital, sub-lattice spreads
+/// of plain functional sums, optional tail correction.
+const METHODS_REVISION: u32 = 2;
+
 /// Everything besides the file's bytes that determines its orbitals' results.
 pub fn settings_fingerprint(load: &LoadParams, spin: Spin, models: &[Model], engine: &EngineParams) -> String {
     let models = models
@@ -37,7 +43,7 @@ pub fn settings_fingerprint(load: &LoadParams, spin: Spin, models: &[Model], eng
         .collect::<Vec<_>>()
         .join(",");
     format!(
-        "sixray {}; kind {:?}; spin {:?}; occupation {:e}; basis files {:?}; models {models}; engine {:?}",
+        "sixray {} methods {METHODS_REVISION}; kind {:?}; spin {:?}; occupation {:e}; basis files {:?}; models {models}; engine {:?}",
         env!("CARGO_PKG_VERSION"),
         load.kind,
         spin,
