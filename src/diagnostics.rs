@@ -155,6 +155,9 @@ pub struct OrbitalReport {
     pub flags: Vec<Flag>,
     /// What the cusp correction changed (`None` when none was applied).
     pub cusp_correction: Option<CuspCorrection>,
+    /// What the tail correction added (`None` when it is off).
+    #[serde(default)]
+    pub tail_correction: Option<TailCorrection>,
     /// The orbital energy the file gives, hartree (basis-set files; `None` for grid files).
     #[serde(default)]
     pub energy: Option<f64>,
@@ -265,6 +268,9 @@ pub struct EngineParams {
     pub trust: crate::trust::TrustParams,
     /// Correct grid sums for the cusps at the nuclei the files list.
     pub cusp_correction: bool,
+    /// Add the estimated tail beyond the box to J and every functional (off by default: the
+    /// estimate extrapolates the two outermost layers; see [`crate::trust`]).
+    pub tail_correction: bool,
 }
 
 impl Default for EngineParams {
@@ -275,6 +281,7 @@ impl Default for EngineParams {
             solver_cache: 8,
             trust: crate::trust::TrustParams::default(),
             cusp_correction: true,
+            tail_correction: false,
         }
     }
 }
@@ -384,9 +391,23 @@ impl Engine {
     /// flags (see [`crate::trust`]).
     pub fn analyse(&self, orbital: &GridOrbital, par: Parallelism) -> Result<OrbitalReport, DiagnosticsError> {
         let sums = self.grid_sums(orbital, par, self.params.cusp_correction, true, true)?;
-        let hartree = sums.hartree;
-        let models = sums
-            .models
+        let tail = (self.params.tail_correction || self.params.trust.error_bars).then(|| crate::trust::Tail::estimate(self, orbital, &sums));
+        let (mut hartree, mut lsda_exchange, mut energies) = (sums.hartree, sums.lsda_exchange, sums.models.clone());
+        // The tail's deviation is grid minus complete: subtract it.
+        let tail_correction = tail.as_ref().filter(|_| self.params.tail_correction).map(|t| {
+            hartree -= t.deviation.hartree;
+            lsda_exchange -= t.lsda_exchange;
+            for (e, d) in energies.iter_mut().zip(&t.deviation.models) {
+                e.0 -= d.0;
+                e.1 -= d.1;
+            }
+            TailCorrection {
+                lost_charge: t.lost_charge,
+                hartree: -t.deviation.hartree,
+                models: t.deviation.models.iter().map(|d| (-d.0, -d.1)).collect(),
+            }
+        });
+        let models = energies
             .iter()
             .map(|&(exchange, correlation)| ModelEnergies {
                 exchange,
@@ -402,19 +423,20 @@ impl Engine {
             occupation: orbital.occupation,
             norm: sums.norm,
             hartree,
-            lsda_exchange: sums.lsda_exchange,
-            optimal_alpha: (2.0 / 3.0) * hartree / -sums.lsda_exchange,
+            lsda_exchange,
+            optimal_alpha: (2.0 / 3.0) * hartree / -lsda_exchange,
             models,
             lost_charge: 0.0,
             errors: None,
             flags: Vec::new(),
             cusp_correction: sums.cusp.clone(),
+            tail_correction,
             energy: None,
             set: OrbitalSet::Canonical,
         };
         check_finite(&report, &self.models)?;
-        if self.params.trust.error_bars {
-            crate::trust::assess(self, orbital, &sums, &mut report, par)?;
+        if let Some(tail) = tail.as_ref().filter(|_| self.params.trust.error_bars) {
+            crate::trust::assess(self, orbital, &sums, &mut report, tail, self.params.tail_correction, par)?;
         }
         Ok(report)
     }
@@ -446,6 +468,17 @@ pub struct CuspCorrection {
     /// Change of J (`None` where the plain value was not computed).
     pub hartree: Option<f64>,
     /// Per model: change of exchange and of correlation.
+    pub models: Vec<(f64, f64)>,
+}
+
+/// What the tail correction added to one orbital's energies (complete minus grid), hartree.
+#[derive(Clone, Debug, PartialEq, Serialize, Deserialize)]
+pub struct TailCorrection {
+    /// Estimated charge beyond the box, electrons.
+    pub lost_charge: f64,
+    /// Added to J.
+    pub hartree: f64,
+    /// Per model: added to exchange and to correlation.
     pub models: Vec<(f64, f64)>,
 }
 

@@ -299,6 +299,7 @@ fn analyse_occupied(
             errors,
             flags: Vec::new(),
             cusp_correction: None,
+            tail_correction: None,
             energy: o.energy,
             set: OrbitalSet::Canonical,
         });

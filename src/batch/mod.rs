@@ -56,7 +56,12 @@ pub const CACHE_DIR: &str = ".sixray-cache";
 pub fn run(workflow: &Workflow, params: &BatchParams, progress: &dyn Progress) -> Vec<CalculationResult> {
     let engine = Engine::new(
         workflow.models.clone(),
-        EngineParams { trust: workflow.trust.clone(), cusp_correction: workflow.cusp_correction, ..params.engine.clone() },
+        EngineParams {
+            trust: workflow.trust.clone(),
+            cusp_correction: workflow.cusp_correction,
+            tail_correction: workflow.tail_correction,
+            ..params.engine.clone()
+        },
     );
     let cache = if workflow.cache {
         match ResultCache::open(&workflow.report.dir.join(CACHE_DIR), !params.fresh) {

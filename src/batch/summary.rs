@@ -158,6 +158,7 @@ mod tests {
             errors: None,
             flags: Vec::new(),
             cusp_correction: None,
+            tail_correction: None,
             energy: None,
             set: Default::default(),
         }

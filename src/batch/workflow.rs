@@ -29,6 +29,7 @@
 //!   error_bars: true                 # error bars and checks for every orbital
 //!   tolerance: 1.6                   # largest acceptable error bar, millihartree
 //!   cusp_correction: true            # cusp models at the nuclei the files list
+//!   tail_correction: false           # add the estimated tail beyond each grid's box
 //! ```
 //!
 //! The whole file is checked before anything runs. Checks that need more than the value itself
@@ -130,6 +131,8 @@ pub struct Workflow {
     pub trust: TrustParams,
     /// Cusp-corrected quadrature at the nuclei the files list.
     pub cusp_correction: bool,
+    /// The estimated tail beyond each grid's box added to the values.
+    pub tail_correction: bool,
 }
 
 /// What the custom deserialisers need to know: where relative paths start, which models exist.
@@ -401,6 +404,8 @@ struct OptionsSpec {
     tolerance: Option<Tolerance>,
     #[serde(default = "yes")]
     cusp_correction: bool,
+    #[serde(default)]
+    tail_correction: bool,
 }
 
 fn yes() -> bool {
@@ -409,7 +414,7 @@ fn yes() -> bool {
 
 impl Default for OptionsSpec {
     fn default() -> Self {
-        OptionsSpec { threads: None, rank_by: None, cache: true, error_bars: true, tolerance: None, cusp_correction: true }
+        OptionsSpec { threads: None, rank_by: None, cache: true, error_bars: true, tolerance: None, cusp_correction: true, tail_correction: false }
     }
 }
 
@@ -537,6 +542,7 @@ impl Workflow {
                 tolerance: file.options.tolerance.map_or(TrustParams::default().tolerance, |t| t.0 * 1e-3),
             },
             cusp_correction: file.options.cusp_correction,
+            tail_correction: file.options.tail_correction,
         })
     }
 }
@@ -572,11 +578,12 @@ mod tests {
         assert_eq!(w.report.formats, [ReportFormat::Markdown, ReportFormat::Csv, ReportFormat::Json, ReportFormat::Html]);
         assert_eq!((w.report.units, w.report.worst, w.cache, w.threads), (EnergyUnit::Millihartree, 20, true, None));
         assert_eq!((w.models.len(), w.rank_by), (1, 0));
+        assert_eq!((w.cusp_correction, w.tail_correction), (true, false));
     }
 
     #[test]
     fn full_workflow_with_custom_models_declared_after_use() {
-        let yaml = "calculations:\n  - name: radical\n    files: [b/*.cube]\n    kind: density\n    spin: alpha\n    occupation: 0.5\n    tags: [open-shell]\nmodels: [mine, xalpha=0.8]\nreport:\n  dir: /tmp/elsewhere\n  formats: [json]\n  units: ev\n  worst: 3\noptions:\n  threads: 2\n  rank_by: scan\n  cache: false\ncustom_models:\n  - {name: mine, exchange: b88, correlation: pw92}\n";
+        let yaml = "calculations:\n  - name: radical\n    files: [b/*.cube]\n    kind: density\n    spin: alpha\n    occupation: 0.5\n    tags: [open-shell]\nmodels: [mine, xalpha=0.8]\nreport:\n  dir: /tmp/elsewhere\n  formats: [json]\n  units: ev\n  worst: 3\noptions:\n  threads: 2\n  rank_by: scan\n  cache: false\n  tail_correction: true\ncustom_models:\n  - {name: mine, exchange: b88, correlation: pw92}\n";
         let (_dir, w) = setup(yaml);
         let w = w.unwrap();
         let c = &w.calculations[0];
@@ -587,7 +594,7 @@ mod tests {
         assert_eq!(w.rank_by, 2);
         assert_eq!(w.report.dir, PathBuf::from("/tmp/elsewhere"));
         assert_eq!((w.report.formats.clone(), w.report.units, w.report.worst), (vec![ReportFormat::Json], EnergyUnit::ElectronVolt, 3));
-        assert_eq!((w.threads, w.cache), (Some(2), false));
+        assert_eq!((w.threads, w.cache, w.tail_correction), (Some(2), false, true));
     }
 
     #[test]

@@ -98,6 +98,11 @@ pub struct RankArgs {
     #[arg(long)]
     no_cusp_correction: bool,
 
+    /// Add the estimated tail beyond the box to J and every functional (for grid files whose box
+    /// cuts the orbitals off; the estimate extrapolates the two outermost layers).
+    #[arg(long)]
+    tail_correction: bool,
+
     /// Exit with status 3 (after writing the report) if any orbital's |δ| under the --rank-by
     /// model exceeds THRESHOLD, given in --units (millihartree by default).
     #[arg(long, value_name = "THRESHOLD")]
@@ -203,7 +208,12 @@ pub fn run(args: RankArgs) -> anyhow::Result<Status> {
         bail!("--tolerance must be a positive number of millihartree");
     }
     let trust = TrustParams { error_bars: !args.no_error_bars, tolerance: args.tolerance * 1e-3 };
-    let params = EngineParams { trust, cusp_correction: !args.no_cusp_correction, ..EngineParams::default() };
+    let params = EngineParams {
+        trust,
+        cusp_correction: !args.no_cusp_correction,
+        tail_correction: args.tail_correction,
+        ..EngineParams::default()
+    };
     let engine = Engine::new(models, params);
     let sets = match args.orbitals {
         OrbitalsArg::Canonical => OrbitalSets::Canonical,

@@ -3,7 +3,7 @@
 use super::Report;
 
 /// Column names, in order.
-pub const COLUMNS: [&str; 25] = [
+pub const COLUMNS: [&str; 28] = [
     "rank",
     "source",
     "label",
@@ -29,6 +29,9 @@ pub const COLUMNS: [&str; 25] = [
     "cusp_correlation",
     "energy",
     "set",
+    "tail_hartree",
+    "tail_exchange",
+    "tail_correlation",
 ];
 
 /// A field quoted where RFC 4180 requires it.
@@ -78,6 +81,9 @@ pub fn rows(report: &Report, leading: &[String], out: &mut String) {
                 opt(o.cusp_correction.as_ref().map(|c| c.models[k].1)),
                 opt(o.energy),
                 o.set.as_str().to_string(),
+                opt(o.tail_correction.as_ref().map(|t| t.hartree)),
+                opt(o.tail_correction.as_ref().map(|t| t.models[k].0)),
+                opt(o.tail_correction.as_ref().map(|t| t.models[k].1)),
             ];
             let line: Vec<&str> = leading.iter().map(String::as_str).chain(cells.iter().map(String::as_str)).collect();
             out.push_str(&line.join(","));

@@ -9,7 +9,10 @@
 //!                  "errors": {"hartree", "models": {MODEL: {"exchange", "correlation",
 //!                  "self_interaction"}}} or null, "flags": [FLAG],
 //!                  "cusp_correction": {"nuclei", "hartree", "models": {MODEL: {"exchange",
-//!                  "correlation"}}} or null} ],   // worst first; corrections: corrected − plain
+//!                  "correlation"}}} or null,
+//!                  "tail_correction": {"lost_charge", "hartree", "models": {MODEL:
+//!                  {"exchange", "correlation"}}} or null} ],
+//!                  // worst first; corrections: corrected − plain
 //!   "totals": {MODEL: {"perdew_zunger", "mean_cancellation"}}, "spin_orbitals": N,
 //!   "failures": [{"source", "error"}],
 //!   "localization": [{"source", "spin", "orbitals", "initial_functional", "functional",
@@ -77,6 +80,13 @@ pub fn orbitals(report: &Report) -> Vec<Value> {
                     "nuclei": c.nuclei,
                     "hartree": c.hartree,
                     "models": report.models.iter().zip(&c.models).map(|(m, d)| {
+                        (m.name.clone(), json!({"exchange": d.0, "correlation": d.1}))
+                    }).collect::<Map<_, _>>(),
+                })),
+                "tail_correction": o.tail_correction.as_ref().map(|t| json!({
+                    "lost_charge": t.lost_charge,
+                    "hartree": t.hartree,
+                    "models": report.models.iter().zip(&t.models).map(|(m, d)| {
                         (m.name.clone(), json!({"exchange": d.0, "correlation": d.1}))
                     }).collect::<Map<_, _>>(),
                 })),

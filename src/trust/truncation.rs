@@ -13,6 +13,7 @@
 use super::Deviation;
 use crate::diagnostics::{Engine, GridOrbital, GridSums};
 use crate::grid::dot;
+use crate::xc::slater::XAlpha;
 use crate::xc::{DENSITY_FLOOR, Functional, XcPoint};
 
 /// Slowest decay assumed per layer outward.
@@ -20,11 +21,13 @@ const MIN_DECAY_RATIO: f64 = 1.05;
 
 /// The tail beyond the box.
 #[derive(Clone, Debug, PartialEq)]
-pub(super) struct Tail {
+pub(crate) struct Tail {
     /// Charge beyond the faces, electrons.
     pub lost_charge: f64,
     /// What the grid values miss (grid minus complete), hartree.
     pub deviation: Deviation,
+    /// The same for LSDA exchange (the basis of α*), hartree.
+    pub lsda_exchange: f64,
 }
 
 /// Beyond-the-face part of a quantity whose face-layer sum is `q0` and next-layer sum `q1`.
@@ -38,7 +41,8 @@ fn beyond(q0: f64, q1: f64, d: f64) -> f64 {
 }
 
 impl Tail {
-    pub(super) fn estimate(engine: &Engine, o: &GridOrbital, sums: &GridSums) -> Tail {
+    /// Estimates the tail of `o` from the grid sums' density and gradient.
+    pub(crate) fn estimate(engine: &Engine, o: &GridOrbital, sums: &GridSums) -> Tail {
         let g = &o.geometry;
         let w = g.voxel_volume();
         let rho = &sums.rho;
@@ -69,7 +73,8 @@ impl Tail {
         let dual = g.dual_axes();
         let spacing = g.plane_spacings();
         let models = engine.models();
-        let mut tail = Tail { lost_charge: 0.0, deviation: Deviation::zero(models.len()) };
+        let mut tail = Tail { lost_charge: 0.0, deviation: Deviation::zero(models.len()), lsda_exchange: 0.0 };
+        let lsda = XAlpha::lsda();
 
         for axis in 0..3 {
             if shape[axis] < 2 {
@@ -103,8 +108,9 @@ impl Tail {
                 let rel = [0, 1, 2].map(|x| on_face[x] - centroid[x]);
                 let reach = dot(&rel, &normal).abs().max(d);
                 tail.deviation.hartree -= lost * w * total / reach;
+                let part = |f: &dyn Functional| beyond(sum(face, &|k| energy(f, k)), sum(inner, &|k| energy(f, k)), d);
+                tail.lsda_exchange -= part(&lsda);
                 for (m, model) in models.iter().enumerate() {
-                    let part = |f: &dyn Functional| beyond(sum(face, &|k| energy(f, k)), sum(inner, &|k| energy(f, k)), d);
                     tail.deviation.models[m].0 -= part(model.exchange.as_ref());
                     if let Some(c) = &model.correlation {
                         tail.deviation.models[m].1 -= part(c.as_ref());

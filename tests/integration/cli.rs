@@ -135,14 +135,14 @@ fn formats_units_top_and_output_file() {
         lines[0],
         "rank,source,label,spin,occupation,norm,lost_charge,hartree,hartree_error,optimal_alpha,model,exchange,\
          exchange_error,correlation,correlation_error,self_interaction,self_interaction_error,cancellation,flags,checked,\
-         cusp_hartree,cusp_exchange,cusp_correlation,energy,set"
+         cusp_hartree,cusp_exchange,cusp_correlation,energy,set,tail_hartree,tail_exchange,tail_correlation"
     );
     // Error bars are there unless switched off; a grid file gives no orbital energy (the field
-    // before the orbital set).
-    let row = lines[1].strip_suffix(",,canonical").expect("an empty energy field, canonical orbitals");
+    // before the orbital set), and without the tail correction the tail cells are empty.
+    let row = lines[1].strip_suffix(",,canonical,,,").expect("an empty energy field, canonical orbitals, no tail");
     assert!(row.contains(",true,") && !row.contains(",,"), "{}", lines[1]);
     let bare = stdout(&sixray(&["rank", "-f", "csv", "--no-error-bars", "--no-cusp-correction", f], dir.path()));
-    assert!(bare.lines().nth(1).unwrap().ends_with(",false,,,,,canonical"), "{bare}");
+    assert!(bare.lines().nth(1).unwrap().ends_with(",false,,,,,canonical,,,"), "{bare}");
     assert_eq!(lines.len(), 3, "one row per orbital and model: {csv}");
 
     // --top limits the rows, not the totals; --output writes the same text atomically.
@@ -363,4 +363,38 @@ fn cusp_correction_is_reported_and_can_be_switched_off() {
     // A p-like orbital (1b1, no s character at any nucleus) is left alone.
     let p_on = find(&on, "occupied#5");
     assert!(p_on["cusp_correction"].is_null() || p_on["cusp_correction"]["hartree"].as_f64().unwrap().abs() < 1e-4, "{}", p_on["cusp_correction"]);
+}
+
+#[test]
+fn tail_correction_is_opt_in_reported_and_added() {
+    // The demo lithium hydride's 2σ runs out of its box (about 0.01 electrons outside).
+    let dir = tempfile::tempdir().unwrap();
+    let f = samples().join("lithium_hydride/orbital_002.cube.gz");
+    let f = f.to_str().unwrap();
+    let plain = json(&sixray(&["rank", "-f", "json", f], dir.path()));
+    let tailed = json(&sixray(&["rank", "-f", "json", "--tail-correction", f], dir.path()));
+    let (p, t) = (&plain["orbitals"][0], &tailed["orbitals"][0]);
+    assert!(p["tail_correction"].is_null(), "off by default: {}", p["tail_correction"]);
+    let c = &t["tail_correction"];
+    let lost = c["lost_charge"].as_f64().unwrap();
+    assert!(lost > 1e-3 && (lost - p["lost_charge"].as_f64().unwrap()).abs() < 1e-15, "{c}");
+    // J gains, exchange deepens, by exactly the reported amounts; the J bar shrinks (half of
+    // the tail instead of all of it).
+    let dj = c["hartree"].as_f64().unwrap();
+    assert!(dj > 0.0, "{c}");
+    let (j_t, j_p) = (t["hartree"].as_f64().unwrap(), p["hartree"].as_f64().unwrap());
+    assert!((j_t - j_p - dj).abs() < 1e-12, "{j_t} − {j_p} vs {dj}");
+    let dx = c["models"]["lsda"]["exchange"].as_f64().unwrap();
+    assert!(dx < 0.0);
+    let (x_t, x_p) = (t["models"]["lsda"]["exchange"].as_f64().unwrap(), p["models"]["lsda"]["exchange"].as_f64().unwrap());
+    assert!((x_t - x_p - dx).abs() < 1e-12);
+    assert!(t["errors"]["hartree"].as_f64().unwrap() < p["errors"]["hartree"].as_f64().unwrap());
+    assert!(t["flags"].as_array().unwrap().iter().any(|f| f == "truncated-box"), "the box still cuts the orbital");
+    // CSV carries the same in its last three columns.
+    let csv = stdout(&sixray(&["rank", "-f", "csv", "--tail-correction", f], dir.path()));
+    let header: Vec<&str> = csv.lines().next().unwrap().split(',').collect();
+    let row: Vec<&str> = csv.lines().nth(1).unwrap().split(',').collect();
+    let at = |name: &str| header.iter().position(|h| *h == name).unwrap_or_else(|| panic!("no column {name}"));
+    assert!((row[at("tail_hartree")].parse::<f64>().unwrap() - dj).abs() < 1e-15);
+    assert_eq!(at("tail_correlation"), header.len() - 1);
 }

@@ -39,6 +39,7 @@ fn orbital(label: &str, spin: Spin, hartree: f64, models: &[(f64, f64)], errors:
         }),
         flags: flags.to_vec(),
         cusp_correction: None,
+        tail_correction: None,
         energy: None,
             set: Default::default(),
     }
@@ -74,6 +75,7 @@ fn workflow(models: &[&str]) -> Workflow {
         cache: false,
         trust: TrustParams::default(),
         cusp_correction: true,
+        tail_correction: false,
     }
 }
 
