@@ -203,6 +203,11 @@ pub fn markdown_orbitals(report: &Report, unit: EnergyUnit) -> String {
     }
     t.push("flags".into(), false);
     t.push(format!("cusp ΔJ ({})", unit.symbol()), true);
+    // The tail column only where the tail correction was asked for.
+    let tails = report.shown().iter().any(|o| o.tail_correction.is_some());
+    if tails {
+        t.push(format!("tail ΔJ ({})", unit.symbol()), true);
+    }
     for (i, o) in report.shown().iter().enumerate() {
         let mut row = orbital_cells(i + 1, o, unit);
         for (m, e) in o.models.iter().enumerate() {
@@ -212,6 +217,9 @@ pub fn markdown_orbitals(report: &Report, unit: EnergyUnit) -> String {
         }
         row.push(flags_text(o));
         row.push(o.cusp_correction.as_ref().and_then(|c| c.hartree).map_or("—".into(), |d| unit.format(d)));
+        if tails {
+            row.push(o.tail_correction.as_ref().map_or("—".into(), |c| unit.format(c.hartree)));
+        }
         t.rows.push(row);
     }
     t.markdown()

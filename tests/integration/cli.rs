@@ -397,4 +397,9 @@ fn tail_correction_is_opt_in_reported_and_added() {
     let at = |name: &str| header.iter().position(|h| *h == name).unwrap_or_else(|| panic!("no column {name}"));
     assert!((row[at("tail_hartree")].parse::<f64>().unwrap() - dj).abs() < 1e-15);
     assert_eq!(at("tail_correlation"), header.len() - 1);
+    // Markdown shows the tail's ΔJ beside the cusp's, only when asked for.
+    let md = stdout(&sixray(&["rank", "-f", "markdown", "--units", "hartree", "--tail-correction", f], dir.path()));
+    assert!(md.contains("| tail ΔJ (Eh) |"), "{md}");
+    let plain_md = stdout(&sixray(&["rank", "-f", "markdown", f], dir.path()));
+    assert!(!plain_md.contains("tail ΔJ"), "{plain_md}");
 }
