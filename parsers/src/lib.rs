@@ -17,6 +17,7 @@
 #![warn(missing_docs)]
 
 pub mod cube;
+mod fields;
 pub mod format;
 pub mod molden;
 

@@ -30,22 +30,19 @@ mod error;
 use std::io::Read;
 use std::path::{Path, PathBuf};
 
-use nom::bytes::complete::{take_till, take_till1, take_while1};
-use nom::character::complete::{char, digit1, one_of, space0};
-use nom::combinator::{all_consuming, opt, recognize, rest};
+use nom::bytes::complete::{take_till, take_while1};
+use nom::character::complete::{char, digit1, space0};
+use nom::combinator::{all_consuming, rest};
 use nom::sequence::{delimited, preceded};
 use nom::{IResult, Parser};
 
 use crate::cube::error::excerpt;
-use crate::cube::number::{NumberError, parse_token};
+use crate::fields::{Fields, LineErrors, integer_text};
 use crate::cube::{GZIP_MAGIC, LengthUnit, open_text};
 pub use error::{MoldenError, MoldenErrorKind};
 
 /// Largest accepted text size (after decompression), in bytes; the whole text is held in memory.
 pub const MAX_MOLDEN_BYTES: u64 = 1 << 32;
-
-/// The phrase used as `found` when a line has no more fields.
-const END_OF_LINE: &str = "end of line";
 
 /// A whole molden file, as written.
 #[derive(Debug, Clone, PartialEq)]
@@ -324,16 +321,6 @@ fn take_while1_or_none_blank(input: &[u8]) -> IResult<&[u8], &[u8]> {
     nom::bytes::complete::take_while(is_blank).parse(input)
 }
 
-/// nom: the next blank-separated field.
-fn field(input: &[u8]) -> IResult<&[u8], &[u8]> {
-    preceded(take_while1_or_none_blank, take_till1(is_blank)).parse(input)
-}
-
-/// nom: a whole field that is an optionally signed run of decimal digits.
-fn integer_text(input: &[u8]) -> IResult<&[u8], &[u8]> {
-    all_consuming(recognize((opt(one_of("+-")), digit1))).parse(input)
-}
-
 /// nom: `KEY=VALUE` with the key a run of letters; returns both (value untrimmed).
 fn key_value(input: &[u8]) -> IResult<&[u8], (&[u8], &[u8])> {
     (
@@ -601,7 +588,7 @@ impl<'a> Parser_<'a> {
             if blank_line(line) {
                 continue;
             }
-            let first = field(line).map(|(_, t)| t).unwrap_or_default();
+            let first = Fields::<MoldenError>::new(self.src, no, line).token().unwrap_or_default();
             if integer_text(first).is_ok() {
                 let mut f = Fields::new(self.src, no, line);
                 let atom = f.int("the atom's sequence number")?;
@@ -825,78 +812,18 @@ impl<'a> Parser_<'a> {
     }
 }
 
-/// Cursor over the blank-separated fields of one line, producing errors that name the line.
-struct Fields<'a> {
-    rest: &'a [u8],
-    line: usize,
-    src: &'a Path,
-}
-
-impl<'a> Fields<'a> {
-    fn new(src: &'a Path, line: usize, text: &'a [u8]) -> Self {
-        Self {
-            rest: text,
-            line,
-            src,
-        }
+/// Molden errors name the file and line.
+impl LineErrors for MoldenError {
+    fn is_blank(b: u8) -> bool {
+        is_blank(b)
     }
 
-    fn error(&self, kind: MoldenErrorKind) -> MoldenError {
-        MoldenError::new(self.src, Some(self.line), kind)
+    fn syntax(src: &Path, line: usize, expected: String, found: String) -> Self {
+        MoldenError::new(src, Some(line), MoldenErrorKind::Syntax { expected, found })
     }
 
-    fn syntax(&self, expected: String, found: String) -> MoldenError {
-        self.error(MoldenErrorKind::Syntax { expected, found })
-    }
-
-    fn token(&mut self) -> Option<&'a [u8]> {
-        let (rest, tok) = field(self.rest).ok()?;
-        self.rest = rest;
-        Some(tok)
-    }
-
-    fn at_end(&self) -> bool {
-        blank_line(self.rest)
-    }
-
-    fn word(&mut self, what: &str) -> Result<String, MoldenError> {
-        self.token()
-            .map(|t| String::from_utf8_lossy(t).into_owned())
-            .ok_or_else(|| self.syntax(what.to_string(), END_OF_LINE.to_string()))
-    }
-
-    fn int(&mut self, what: &str) -> Result<i64, MoldenError> {
-        let expected = || format!("{what} (an integer)");
-        let Some(tok) = self.token() else {
-            return Err(self.syntax(expected(), END_OF_LINE.to_string()));
-        };
-        integer_text(tok)
-            .ok()
-            .and_then(|(_, digits)| std::str::from_utf8(digits).ok())
-            .and_then(|s| s.parse::<i64>().ok())
-            .ok_or_else(|| self.syntax(expected(), excerpt(tok)))
-    }
-
-    fn float(&mut self, what: &str) -> Result<f64, MoldenError> {
-        let expected = || format!("{what} (a number)");
-        let Some(tok) = self.token() else {
-            return Err(self.syntax(expected(), END_OF_LINE.to_string()));
-        };
-        parse_token(tok).map_err(|e| match e {
-            NumberError::NotFinite => self.error(MoldenErrorKind::NotFinite {
-                found: excerpt(tok),
-            }),
-            NumberError::Syntax => self.syntax(expected(), excerpt(tok)),
-        })
-    }
-
-    fn finish(&mut self, after: &str) -> Result<(), MoldenError> {
-        match self.token() {
-            None => Ok(()),
-            Some(tok) => {
-                Err(self.syntax(format!("the end of the line after {after}"), excerpt(tok)))
-            }
-        }
+    fn not_finite(src: &Path, line: usize, found: String) -> Self {
+        MoldenError::new(src, Some(line), MoldenErrorKind::NotFinite { found })
     }
 }
 

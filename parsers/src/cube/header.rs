@@ -3,18 +3,11 @@
 use std::io::{BufRead, ErrorKind};
 use std::path::Path;
 
-use nom::bytes::complete::take_till1;
-use nom::character::complete::{digit1, one_of, space0};
-use nom::combinator::{all_consuming, opt, recognize};
-use nom::sequence::preceded;
-use nom::{IResult, Parser};
-
-use super::error::{END_OF_LINE, excerpt};
-use super::number::{NumberError, parse_token};
 use super::{
     CubeAtom, CubeAxis, CubeError, CubeErrorKind, CubeHeader, LengthUnit, MAX_ATOMS,
     MAX_HEADER_LINE_BYTES, MAX_ORBITALS, MAX_VALUES_PER_POINT,
 };
+use crate::fields::{Fields, LineErrors};
 
 /// A parsed header and the number of bytes it occupied in the (decompressed) input.
 pub(crate) struct ParsedHeader {
@@ -40,11 +33,7 @@ pub(crate) fn parse_header<R: BufRead>(
 
     // Line 3: atom count, origin, optional values-per-point count.
     let (no, text) = lines.next("the line with the atom count and origin")?;
-    let mut f = Fields {
-        rest: &text,
-        line: no,
-        src,
-    };
+    let mut f = Fields::new(src, no, &text);
     let atom_count = f.int("the atom count")?;
     let origin = [
         f.float("origin x")?,
@@ -69,11 +58,7 @@ pub(crate) fn parse_header<R: BufRead>(
     let mut first_sign = 0i64;
     for (k, axis) in axes.iter_mut().enumerate() {
         let (no, text) = lines.next(&format!("the line of axis {}", k + 1))?;
-        let mut f = Fields {
-            rest: &text,
-            line: no,
-            src,
-        };
+        let mut f = Fields::new(src, no, &text);
         let count = f.int(&format!("the point count of axis {}", k + 1))?;
         let step = [f.float("step x")?, f.float("step y")?, f.float("step z")?];
         f.finish("the step vector")?;
@@ -110,11 +95,7 @@ pub(crate) fn parse_header<R: BufRead>(
     let mut atoms = Vec::new();
     for a in 1..=n_atoms {
         let (no, text) = lines.next(&format!("atom line {a} of {n_atoms}"))?;
-        let mut f = Fields {
-            rest: &text,
-            line: no,
-            src,
-        };
+        let mut f = Fields::new(src, no, &text);
         let z = f.int("the atomic number")?;
         let atomic_number = i32::try_from(z)
             .map_err(|_| f.bad_count("atomic number (expected a 32-bit integer)".to_string(), z))?;
@@ -169,11 +150,7 @@ pub(crate) fn parse_header<R: BufRead>(
 fn read_orbital_list<R: BufRead>(lines: &mut Lines<'_, R>) -> Result<Vec<i64>, CubeError> {
     let src = lines.src;
     let (no, text) = lines.next("the orbital count")?;
-    let mut f = Fields {
-        rest: &text,
-        line: no,
-        src,
-    };
+    let mut f = Fields::new(src, no, &text);
     let m = f.int("the orbital count")?;
     if !(1..=MAX_ORBITALS as i64).contains(&m) {
         return Err(f.bad_count(format!("orbital count (expected 1 to {MAX_ORBITALS})"), m));
@@ -183,18 +160,14 @@ fn read_orbital_list<R: BufRead>(lines: &mut Lines<'_, R>) -> Result<Vec<i64>, C
     take_ids(&mut f, &mut ids, m)?;
     while (ids.len() as u64) < m {
         let (no, text) = lines.next(&format!("orbital index {} of {m}", ids.len() + 1))?;
-        let mut f = Fields {
-            rest: &text,
-            line: no,
-            src,
-        };
+        let mut f = Fields::new(src, no, &text);
         take_ids(&mut f, &mut ids, m)?;
     }
     Ok(ids)
 }
 
 /// Takes orbital indices from one line until the list is complete or the line ends.
-fn take_ids(f: &mut Fields<'_>, ids: &mut Vec<i64>, m: u64) -> Result<(), CubeError> {
+fn take_ids(f: &mut Fields<'_, CubeError>, ids: &mut Vec<i64>, m: u64) -> Result<(), CubeError> {
     while (ids.len() as u64) < m {
         if f.at_end() {
             return Ok(());
@@ -276,89 +249,27 @@ fn is_blank(c: u8) -> bool {
     c == b' ' || c == b'\t'
 }
 
-/// nom: the next blank-separated field.
-fn field(input: &[u8]) -> IResult<&[u8], &[u8]> {
-    preceded(space0, take_till1(is_blank)).parse(input)
-}
-
-/// nom: a whole field that is an optionally signed run of decimal digits.
-fn integer_text(input: &[u8]) -> IResult<&[u8], &[u8]> {
-    all_consuming(recognize((opt(one_of("+-")), digit1))).parse(input)
-}
-
-/// Cursor over the fields of one header line, producing errors that name the line.
-struct Fields<'a> {
-    rest: &'a [u8],
-    line: usize,
-    src: &'a Path,
-}
-
-impl<'a> Fields<'a> {
-    fn error(&self, kind: CubeErrorKind) -> CubeError {
-        CubeError::new(self.src, Some(self.line), kind)
+/// Header errors name the cube file and line.
+impl LineErrors for CubeError {
+    fn is_blank(b: u8) -> bool {
+        is_blank(b)
     }
 
-    fn syntax(&self, expected: String, found: String) -> CubeError {
-        self.error(CubeErrorKind::Syntax { expected, found })
+    fn syntax(src: &Path, line: usize, expected: String, found: String) -> Self {
+        CubeError::new(src, Some(line), CubeErrorKind::Syntax { expected, found })
+    }
+
+    fn not_finite(src: &Path, line: usize, found: String) -> Self {
+        CubeError::new(src, Some(line), CubeErrorKind::NotFinite { found })
+    }
+}
+
+impl Fields<'_, CubeError> {
+    fn error(&self, kind: CubeErrorKind) -> CubeError {
+        CubeError::new(self.src(), Some(self.line()), kind)
     }
 
     fn bad_count(&self, what: String, value: i64) -> CubeError {
         self.error(CubeErrorKind::BadCount { what, value })
-    }
-
-    fn token(&mut self) -> Option<&'a [u8]> {
-        let (rest, tok) = field(self.rest).ok()?;
-        self.rest = rest;
-        Some(tok)
-    }
-
-    fn at_end(&self) -> bool {
-        self.rest.iter().all(|&c| is_blank(c))
-    }
-
-    /// Next field as a 64-bit integer; `what` names it for the error message.
-    fn int(&mut self, what: &str) -> Result<i64, CubeError> {
-        let expected = || format!("{what} (an integer)");
-        let Some(tok) = self.token() else {
-            return Err(self.syntax(expected(), END_OF_LINE.to_string()));
-        };
-        integer_text(tok)
-            .ok()
-            .and_then(|(_, digits)| std::str::from_utf8(digits).ok())
-            .and_then(|s| s.parse::<i64>().ok())
-            .ok_or_else(|| self.syntax(expected(), excerpt(tok)))
-    }
-
-    /// Next field as an integer if the line has one more field.
-    fn opt_int(&mut self, what: &str) -> Result<Option<i64>, CubeError> {
-        if self.at_end() {
-            Ok(None)
-        } else {
-            self.int(what).map(Some)
-        }
-    }
-
-    /// Next field as a finite float (`E` or Fortran `D` exponents).
-    fn float(&mut self, what: &str) -> Result<f64, CubeError> {
-        let expected = || format!("{what} (a number)");
-        let Some(tok) = self.token() else {
-            return Err(self.syntax(expected(), END_OF_LINE.to_string()));
-        };
-        parse_token(tok).map_err(|e| match e {
-            NumberError::NotFinite => self.error(CubeErrorKind::NotFinite {
-                found: excerpt(tok),
-            }),
-            NumberError::Syntax => self.syntax(expected(), excerpt(tok)),
-        })
-    }
-
-    /// Requires that nothing but blanks remain on the line.
-    fn finish(&mut self, after: &str) -> Result<(), CubeError> {
-        match self.token() {
-            None => Ok(()),
-            Some(tok) => {
-                Err(self.syntax(format!("the end of the line after {after}"), excerpt(tok)))
-            }
-        }
     }
 }
