@@ -13,7 +13,7 @@
 mod common;
 
 use common::best;
-use sixray::diagnostics::{Engine, EngineParams, GridOrbital, Kind, Spin};
+use sixray::diagnostics::{Engine, EngineParams, GridOrbital, Kind};
 use sixray::grid::GridGeometry;
 use sixray::par::Parallelism;
 use sixray::trust::TrustParams;
@@ -21,7 +21,6 @@ use sixray::xc::Model;
 use sixray_parsers::cube::{ReadParams, read_cube};
 use std::fmt::Write as _;
 use std::io::Write;
-use std::sync::Arc;
 
 const N: usize = 128;
 const H: f64 = 0.15;
@@ -91,16 +90,7 @@ fn main() {
     println!("{:<52} {:>9.0} MB/s  ({:.3} s)", "parse gzip cube (MB of text per second)", mb / t.as_secs_f64(), t.as_secs_f64());
 
     let values = file.fields[0].clone();
-    let orbital = GridOrbital {
-        source: "bench".into(),
-        label: "bench".into(),
-        spin: Spin::Alpha,
-        occupation: 1.0,
-        geometry: Arc::new(g.clone()),
-        nuclei: Arc::from(Vec::new()),
-        kind: Kind::Amplitude,
-        values,
-    };
+    let orbital = GridOrbital { values, ..GridOrbital::sampled("bench", g.clone(), Vec::new(), Kind::Amplitude, |_| 0.0) };
     let models = ["lsda", "slater", "xalpha=0.75"].map(|m| Model::from_name(m).expect("model")).to_vec();
     // Seven models whose exchange and correlation parts are the twelve functionals.
     let every_functional = ["lsda", "lsda-vwn5", "blyp", "pbe", "pw91-x", "scan", "r2scan"]

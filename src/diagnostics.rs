@@ -90,6 +90,22 @@ pub struct GridOrbital {
 }
 
 impl GridOrbital {
+    /// One fully occupied α spin-orbital with `value(r)` (r in bohr) at every point of
+    /// `geometry`, amplitudes or densities as `kind` says, labelled (and sourced) `label`: for
+    /// analytic orbitals in tests, benchmarks and library use.
+    pub fn sampled(label: &str, geometry: GridGeometry, nuclei: Vec<Nucleus>, kind: Kind, value: impl Fn([f64; 3]) -> f64) -> GridOrbital {
+        GridOrbital {
+            source: label.to_string(),
+            label: label.to_string(),
+            spin: Spin::Alpha,
+            occupation: 1.0,
+            values: geometry.sample(value),
+            geometry: Arc::new(geometry),
+            nuclei: Arc::from(nuclei),
+            kind,
+        }
+    }
+
     /// n_i = f_i φ_i² (or f_i times the density values) at every grid point, electrons/bohr³.
     pub fn density(&self) -> Vec<f64> {
         let f = self.occupation;
@@ -581,17 +597,8 @@ mod tests {
         let geometry = GridGeometry::around([[h, 0.0, 0.0], [0.0, h, 0.0], [0.0, 0.0, h]], [0.0; 3], 6.0).unwrap();
         // Amplitude of the normalised Gaussian density (a/π)^{3/2} exp(−a r²).
         let norm = (exponent / PI).powf(0.75);
-        let values = geometry.sample(|r| norm * (-0.5 * exponent * (r[0] * r[0] + r[1] * r[1] + r[2] * r[2])).exp());
-        GridOrbital {
-            source: "test".into(),
-            label: format!("g{exponent}"),
-            spin,
-            occupation,
-            geometry: Arc::new(geometry),
-            nuclei: Arc::from(Vec::new()),
-            kind: Kind::Amplitude,
-            values,
-        }
+        let value = |r: [f64; 3]| norm * (-0.5 * exponent * (r[0] * r[0] + r[1] * r[1] + r[2] * r[2])).exp();
+        GridOrbital { spin, occupation, ..GridOrbital::sampled(&format!("g{exponent}"), geometry, Vec::new(), Kind::Amplitude, value) }
     }
 
     fn engine(names: &[&str]) -> Engine {

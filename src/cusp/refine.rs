@@ -248,10 +248,8 @@ pub(crate) fn deviation(
 #[cfg(test)]
 mod tests {
     use super::*;
-    use crate::diagnostics::Spin;
     use crate::grid::{GridGeometry, Nucleus};
     use std::f64::consts::PI;
-    use std::sync::Arc;
 
     #[test]
     fn lagrange_weights_are_exact_for_polynomials_below_the_order() {
@@ -291,16 +289,7 @@ mod tests {
             (value, grad)
         };
         let g = GridGeometry::around([[h, 0.0, 0.0], [0.0, h, 0.0], [0.0, 0.0, h]], [0.0; 3], 3.0).unwrap();
-        let o = GridOrbital {
-            source: "t".into(),
-            label: "t".into(),
-            spin: Spin::Alpha,
-            occupation: 1.0,
-            values: g.sample(|p| exact(p).0),
-            geometry: Arc::new(g),
-            nuclei: Arc::from(vec![Nucleus { atomic_number: 8, charge: 8.0, position: c }]),
-            kind: Kind::Amplitude,
-        };
+        let o = GridOrbital::sampled("t", g, vec![Nucleus { atomic_number: 8, charge: 8.0, position: c }], Kind::Amplitude, |p| exact(p).0);
         let cusps = [CuspModel::fit(&o, &o.nuclei[0]).unwrap()];
         assert!((cusps[0].amplitude / a - 1.0).abs() < 1e-5, "{}", cusps[0].amplitude / a);
         let rebuilt = Reconstruction::new(&o, &cusps, c, 1.0).unwrap();
@@ -323,16 +312,8 @@ mod tests {
         for (n, expect_correction) in [(7usize, true), (5, false)] {
             let g = GridGeometry::new([0.0; 3], [[h, 0.0, 0.0], [0.0, h, 0.0], [0.0, 0.0, h]], [n; 3]).unwrap();
             let c = [h, 0.5 * (n - 1) as f64 * h, 0.5 * (n - 1) as f64 * h];
-            let o = GridOrbital {
-                source: "t".into(),
-                label: "t".into(),
-                spin: Spin::Alpha,
-                occupation: 1.0,
-                values: g.sample(|p| (-dot(&[p[0] - c[0], p[1] - c[1], p[2] - c[2]], &[p[0] - c[0], p[1] - c[1], p[2] - c[2]]).sqrt()).exp()),
-                geometry: Arc::new(g),
-                nuclei: Arc::from(vec![Nucleus { atomic_number: 1, charge: 1.0, position: c }]),
-                kind: Kind::Amplitude,
-            };
+            let nuclei = vec![Nucleus { atomic_number: 1, charge: 1.0, position: c }];
+            let o = GridOrbital::sampled("t", g, nuclei, Kind::Amplitude, |p| (-super::distance(p, c)).exp());
             let cusps: Vec<CuspModel> = CuspModel::fit(&o, &o.nuclei[0]).into_iter().collect();
             if cusps.is_empty() {
                 assert!(!expect_correction, "n = {n}: the cusp should be fitted");

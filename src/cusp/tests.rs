@@ -1,19 +1,8 @@
 use super::*;
-use crate::diagnostics::Spin;
-use std::sync::Arc;
 
 fn on_grid(h: f64, radius: f64, nuclei: Vec<Nucleus>, kind: Kind, value: impl Fn([f64; 3]) -> f64) -> GridOrbital {
     let g = GridGeometry::around([[h, 0.0, 0.0], [0.0, h, 0.0], [0.0, 0.0, h]], [0.0; 3], radius).unwrap();
-    GridOrbital {
-        source: "t".into(),
-        label: "t".into(),
-        spin: Spin::Alpha,
-        occupation: 1.0,
-        values: g.sample(value),
-        geometry: Arc::new(g),
-        nuclei: Arc::from(nuclei),
-        kind,
-    }
+    GridOrbital::sampled("t", g, nuclei, kind, value)
 }
 
 fn nucleus(z: i32, position: [f64; 3]) -> Nucleus {

@@ -75,22 +75,13 @@ pub(super) fn spreads(engine: &Engine, o: &GridOrbital, sums: &GridSums, par: Pa
 #[cfg(test)]
 mod tests {
     use super::*;
-    use crate::diagnostics::{Kind, Spin};
+    use crate::diagnostics::Kind;
 
     #[test]
     fn sublattices_partition_the_points() {
         let g = GridGeometry::new([0.1, 0.2, 0.3], [[0.2, 0.0, 0.0], [0.05, 0.2, 0.0], [0.0, 0.0, 0.25]], [17, 16, 18]).unwrap();
         let values: Vec<f64> = (0..g.len()).map(|i| i as f64).collect();
-        let o = GridOrbital {
-            source: "t".into(),
-            label: "t".into(),
-            spin: Spin::Alpha,
-            occupation: 1.0,
-            geometry: Arc::new(g.clone()),
-            nuclei: Arc::from(Vec::new()),
-            kind: Kind::Amplitude,
-            values,
-        };
+        let o = GridOrbital { values, ..GridOrbital::sampled("t", g.clone(), Vec::new(), Kind::Amplitude, |_| 0.0) };
         let mut seen = std::collections::HashSet::new();
         for k in 0..8 {
             let off = [k >> 2, (k >> 1) & 1, k & 1];

@@ -1,14 +1,13 @@
 //! Cusp-corrected quadrature on analytic densities.
 
 use crate::common::analytic;
-use sixray::diagnostics::{Engine, EngineParams, GridOrbital, Kind, Spin};
+use sixray::diagnostics::{Engine, EngineParams, GridOrbital, Kind};
 use sixray::grid::{GridGeometry, Nucleus};
 use sixray::par::Parallelism;
 use sixray::quadrature::{radial_rule, spherical_self_energy};
 use sixray::trust::TrustParams;
 use sixray::xc::Model;
 use std::f64::consts::PI;
-use std::sync::Arc;
 
 fn distance(a: [f64; 3], b: [f64; 3]) -> f64 {
     ((a[0] - b[0]).powi(2) + (a[1] - b[1]).powi(2) + (a[2] - b[2]).powi(2)).sqrt()
@@ -49,16 +48,9 @@ fn hydrogenic_cusps_are_corrected_on_and_off_grid_points() {
                 let g = GridGeometry::around([[h, 0.0, 0.0], [0.0, h, 0.0], [0.0, 0.0, h]], [0.0; 3], 16.0 / z + 0.5).unwrap();
                 // `around` puts a point on the centre when the counts are odd.
                 let centre = if g.shape[0] % 2 == 1 { offset } else { [offset[0] + h / 2.0, offset[1] + h / 2.0, offset[2] + h / 2.0] };
-                let orbital = GridOrbital {
-                    source: "analytic".into(),
-                    label: format!("Z={z} h={h} {place}"),
-                    spin: Spin::Alpha,
-                    occupation: 1.0,
-                    values: g.sample(|p| (z.powi(3) / PI).sqrt() * (-z * distance(p, centre)).exp()),
-                    geometry: Arc::new(g),
-                    nuclei: Arc::from(vec![Nucleus { atomic_number: z as i32, charge: z, position: centre }]),
-                    kind: Kind::Amplitude,
-                };
+                let nuclei = vec![Nucleus { atomic_number: z as i32, charge: z, position: centre }];
+                let value = |p: [f64; 3]| (z.powi(3) / PI).sqrt() * (-z * distance(p, centre)).exp();
+                let orbital = GridOrbital::sampled(&format!("Z={z} h={h} {place}"), g, nuclei, Kind::Amplitude, value);
                 // Density files (|φ|² values) too, for the oxygen-like cusp on the reference spacing.
                 let density = GridOrbital {
                     label: format!("{} (density values)", orbital.label),
@@ -94,16 +86,7 @@ fn smooth_densities_and_nucleus_free_grids_are_left_alone() {
     let h = 0.2;
     let g = GridGeometry::around([[h, 0.0, 0.0], [0.0, h, 0.0], [0.0, 0.0, h]], [0.0; 3], 7.0).unwrap();
     let gaussian = |c: [f64; 3]| move |p: [f64; 3]| PI.powf(-0.75) * (-0.5 * distance(p, c).powi(2)).exp();
-    let orbital = |nuclei: Vec<Nucleus>, c: [f64; 3]| GridOrbital {
-        source: "analytic".into(),
-        label: "gaussian".into(),
-        spin: Spin::Alpha,
-        occupation: 1.0,
-        values: g.sample(gaussian(c)),
-        geometry: Arc::new(g.clone()),
-        nuclei: Arc::from(nuclei),
-        kind: Kind::Amplitude,
-    };
+    let orbital = |nuclei: Vec<Nucleus>, c: [f64; 3]| GridOrbital::sampled("gaussian", g.clone(), nuclei, Kind::Amplitude, gaussian(c));
     let (corrected, plain) = (engine(true), engine(false));
     for (what, o) in [
         ("no nucleus", orbital(vec![], [0.0; 3])),

@@ -168,7 +168,7 @@ fn every_functional_on_grids_sampled_from_analytic_densities() {
 fn engine_reproduces_gaussian_self_energies_for_every_model() {
     // reference: libxc 7.0.0 via PySCF 2.14, analytic.json Gaussians; J = √(a/2π) (textbook).
     // The whole grid path: amplitudes only, gradients by finite differences, every model.
-    use sixray::diagnostics::{Engine, EngineParams, GridOrbital, Kind, Spin};
+    use sixray::diagnostics::{Engine, EngineParams, GridOrbital, Kind};
     use sixray::par::Parallelism;
     use sixray::xc::model::BUILTIN;
     let Some(data) = analytic("engine_reproduces_gaussian_self_energies_for_every_model") else { return };
@@ -177,16 +177,8 @@ fn engine_reproduces_gaussian_self_energies_for_every_model() {
     for d in data["densities"].as_array().expect("densities").iter().filter(|d| d["kind"] == "gaussian") {
         let (density, _) = radial_density(d);
         let (g, c) = analytic_grid(d);
-        let orbital = GridOrbital {
-            source: "analytic".into(),
-            label: format!("gaussian {}", d["exponent"]),
-            spin: Spin::Alpha,
-            occupation: 1.0,
-            kind: Kind::Amplitude,
-            values: g.sample(|r| density(radius_from(r, c)).0.sqrt()),
-            geometry: std::sync::Arc::new(g),
-            nuclei: std::sync::Arc::from(Vec::new()),
-        };
+        let label = format!("gaussian {}", d["exponent"]);
+        let orbital = GridOrbital::sampled(&label, g, Vec::new(), Kind::Amplitude, |r| density(radius_from(r, c)).0.sqrt());
         let r = engine.analyse(&orbital, Parallelism::Rayon).unwrap();
         assert_relative_eq!(r.hartree, num(d, "hartree_self"), max_relative = 1e-9);
         for (m, e) in models.iter().zip(&r.models) {

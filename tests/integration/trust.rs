@@ -1,28 +1,18 @@
 //! Error bars and input checks on analytic densities.
 
-use sixray::diagnostics::{Engine, EngineParams, Flag, GridOrbital, Kind, OrbitalReport, Spin};
+use sixray::diagnostics::{Engine, EngineParams, Flag, GridOrbital, Kind, OrbitalReport};
 use sixray::grid::{GridGeometry, Nucleus};
 use sixray::par::Parallelism;
 use sixray::quadrature::{radial_rule, spherical_self_energy};
 use sixray::xc::Model;
 use std::f64::consts::PI;
-use std::sync::Arc;
 
 fn distance(a: [f64; 3], b: [f64; 3]) -> f64 {
     ((a[0] - b[0]).powi(2) + (a[1] - b[1]).powi(2) + (a[2] - b[2]).powi(2)).sqrt()
 }
 
 fn orbital(g: GridGeometry, kind: Kind, nuclei: Vec<Nucleus>, value: impl Fn([f64; 3]) -> f64) -> GridOrbital {
-    GridOrbital {
-        source: "analytic".into(),
-        label: "analytic".into(),
-        spin: Spin::Alpha,
-        occupation: 1.0,
-        values: g.sample(value),
-        geometry: Arc::new(g),
-        nuclei: Arc::from(nuclei),
-        kind,
-    }
+    GridOrbital::sampled("analytic", g, nuclei, kind, value)
 }
 
 fn analyse(o: &GridOrbital, models: &[&str]) -> OrbitalReport {
