@@ -11,7 +11,8 @@
 //!                                   "mean_cancellation", "spin_orbitals"}},
 //!                "tags": {TAG: {"calculations", "models": {MODEL: {...as above}}}},
 //!                "worst": [{"calculation", "label", "spin", "model", "self_interaction", "hartree"}],
-//!                "flags": {FLAG: number of orbital records}, "tolerance" },
+//!                "flags": {FLAG: number of orbital records}, "tolerance", "cusp_correction",
+//!                "tail_correction" },
 //!   "calculations": [ {"name", "tags", "status": "ok" | "failed", "error" (when failed),
 //!                      "failures": [{"source", "error"}], "orbitals": [...as in rank],
 //!                      "totals": {MODEL: {"perdew_zunger", "mean_cancellation"}},
@@ -149,6 +150,8 @@ pub fn to_value(report: &BatchReport) -> Value {
             "worst": worst,
             "flags": flag_counts(report).into_iter().map(|(f, n)| (f.to_string(), json!(n))).collect::<Map<_, _>>(),
             "tolerance": report.workflow.trust.tolerance,
+            "cusp_correction": report.workflow.cusp_correction,
+            "tail_correction": report.workflow.tail_correction,
         },
         "calculations": calculations,
     })
@@ -197,6 +200,12 @@ pub fn render_markdown(report: &BatchReport, unit: EnergyUnit) -> String {
         let list = flagged.iter().map(|(f, n)| format!("{n} {f}")).collect::<Vec<_>>().join(", ");
         out += &format!("Orbital records flagged by the grid checks: {list} (tolerance {} {u}).\n\n", unit.format(wf.trust.tolerance));
     }
+    // Which corrections the grid-file values carry.
+    out += &format!(
+        "Grid files: cusp correction {}; tail correction {}.\n\n",
+        if wf.cusp_correction { "on" } else { "off (plain grid sums at the nuclei)" },
+        if wf.tail_correction { "on (values include the estimated tail beyond each box)" } else { "off" }
+    );
     out += "## Models across the set\n\n";
     let mut t = Table::new(&[
         ("model", false),

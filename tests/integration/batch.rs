@@ -95,6 +95,9 @@ fn demo_workflow_reports_agree_with_rank() {
     for section in ["## Models across the set", "## Perdew–Zunger correction per calculation", "## By tag", "worst orbitals", "### hydroxyl radical (neutral, radical)"] {
         assert!(md.contains(section), "{section}");
     }
+    // The report says which corrections the values carry.
+    assert!(md.contains("Grid files: cusp correction on; tail correction off."), "{md}");
+    assert_eq!((&report["summary"]["cusp_correction"], &report["summary"]["tail_correction"]), (&Value::Bool(true), &Value::Bool(false)));
 }
 
 #[test]
