@@ -32,8 +32,9 @@ pub fn file_digest(path: &Path) -> std::io::Result<blake3::Hash> {
 /// Revision of the numerical methods: raise it with every change that alters computed numbers,
 /// so that results cached by an earlier build are not served as if current.
 /// History: 2 — exchange–correlation near cusps from the rebuilt orbital, sub-lattice spreads
-/// of plain functional sums, optional tail correction.
-const METHODS_REVISION: u32 = 2;
+/// of plain functional sums, optional tail correction; 3 — sub-lattice spreads of the
+/// functionals outside the refined windows.
+const METHODS_REVISION: u32 = 3;
 
 /// Everything besides the file's bytes that determines its orbitals' results.
 pub fn settings_fingerprint(load: &LoadParams, spin: Spin, models: &[Model], engine: &EngineParams) -> String {

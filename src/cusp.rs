@@ -298,18 +298,9 @@ pub(crate) fn hartree(engine: &Engine, g: &GridGeometry, rho: &[f64], models: &[
     Ok(smooth + cross + exact)
 }
 
-/// Per model of `models`, the grid's error (exchange, correlation) near all the `cusps`, hartree
-/// (grid minus refined; subtract it to correct; module `refine`). `rho` and `grad_sq` are what the
-/// grid sums used.
-pub(crate) fn xc_deviation(
-    cusps: &[CuspModel],
-    orbital: &GridOrbital,
-    rho: &[f64],
-    grad_sq: Option<&[f64]>,
-    models: &[crate::xc::Model],
-    par: Parallelism,
-) -> Vec<(f64, f64)> {
-    // Each distinct functional once, however many models share it.
+/// Per model of `models`, (exchange, correlation) from `per_functional`, which gets each distinct
+/// functional once however many models share it.
+fn per_model(models: &[crate::xc::Model], per_functional: impl FnOnce(&[&dyn Functional]) -> Vec<f64>) -> Vec<(f64, f64)> {
     fn slot<'f>(f: &'f dyn Functional, distinct: &mut Vec<&'f dyn Functional>) -> usize {
         distinct.iter().position(|d| d.part() == f.part() && d.id() == f.id()).unwrap_or_else(|| {
             distinct.push(f);
@@ -321,13 +312,53 @@ pub(crate) fn xc_deviation(
         .iter()
         .map(|m| (slot(m.exchange.as_ref(), &mut distinct), m.correlation.as_deref().map(|c| slot(c, &mut distinct))))
         .collect();
-    let mut total = vec![0.0; distinct.len()];
-    for at in 0..cusps.len() {
-        for (t, d) in total.iter_mut().zip(refine::deviation(cusps, at, orbital, rho, grad_sq, &distinct, par)) {
-            *t += d;
+    let values = per_functional(&distinct);
+    slots.iter().map(|&(x, c)| (values[x], c.map_or(0.0, |c| values[c]))).collect()
+}
+
+/// Per model of `models`, the grid's error (exchange, correlation) near all the `cusps`, hartree
+/// (grid minus refined; subtract it to correct; module `refine`). `rho` and `grad_sq` are what the
+/// grid sums used.
+pub(crate) fn xc_deviation(
+    cusps: &[CuspModel],
+    orbital: &GridOrbital,
+    rho: &[f64],
+    grad_sq: Option<&[f64]>,
+    models: &[crate::xc::Model],
+    par: Parallelism,
+) -> Vec<(f64, f64)> {
+    per_model(models, |functionals| {
+        let mut total = vec![0.0; functionals.len()];
+        for at in 0..cusps.len() {
+            for (t, d) in total.iter_mut().zip(refine::deviation(cusps, at, orbital, rho, grad_sq, functionals, par)) {
+                *t += d;
+            }
         }
-    }
-    slots.iter().map(|&(x, c)| (total[x], c.map_or(0.0, |c| total[c]))).collect()
+        total
+    })
+}
+
+/// Per model of `models`, the grid sums (exchange, correlation) inside the windows that the
+/// correction replaced: about each of `cusps`, with radii set by `step` (the step of the grid
+/// the correction was made on, bohr), on the points of `orbital`, hartree.
+pub(crate) fn windowed_xc(
+    cusps: &[CuspModel],
+    step: f64,
+    orbital: &GridOrbital,
+    rho: &[f64],
+    grad_sq: Option<&[f64]>,
+    models: &[crate::xc::Model],
+    par: Parallelism,
+) -> Vec<(f64, f64)> {
+    per_model(models, |functionals| {
+        let mut total = vec![0.0; functionals.len()];
+        for c in cusps {
+            for (t, d) in total.iter_mut().zip(refine::windowed_grid_sums(c.position, step, orbital, rho, grad_sq, functionals, par)) {
+                *t += d;
+            }
+        }
+        total
+    })
 }
 
 /// Average of 1/r over a cube of unit edge centred on the origin (textbook value, quoted from

@@ -400,7 +400,8 @@ impl Engine {
             }
             applied
         });
-        Ok(GridSums { norm, hartree, lsda_exchange, models, rho, grad_sq, cusp: correction })
+        let refined = if correction.is_some() { cusps } else { Vec::new() };
+        Ok(GridSums { norm, hartree, lsda_exchange, models, rho, grad_sq, cusp: correction, refined })
     }
 
     /// Analyses one spin-orbital: its energies and, unless switched off, their error bars and
@@ -474,6 +475,8 @@ pub(crate) struct GridSums {
     pub grad_sq: Option<Vec<f64>>,
     /// The cusp correction applied, if any.
     pub cusp: Option<CuspCorrection>,
+    /// The cusp models whose windows the functionals were refined in (empty without).
+    pub refined: Vec<CuspModel>,
 }
 
 /// What the cusp correction changed in one orbital's energies (corrected minus plain), hartree.

@@ -173,11 +173,12 @@ fn cusp_value(kind: Kind, c: &CuspModel, r: f64) -> (f64, f64) {
     (v, -exponent * v)
 }
 
-/// Per functional of `functionals`, the grid's error within the window of cusp model `at`
-/// (grid minus refined), hartree. `rho` and `grad_sq` are what the grid sums used.
-pub(crate) fn deviation(
-    cusps: &[CuspModel],
-    at: usize,
+/// Per functional of `functionals`, the grid sum Σ w W e(n, |∇n|²) over the window about
+/// `centre` whose radii are set by `step` (the window's unit length, bohr: the step of the grid
+/// the correction was made on), hartree. `rho` and `grad_sq` are what the grid sums used.
+pub(crate) fn windowed_grid_sums(
+    centre: [f64; 3],
+    step: f64,
     orbital: &GridOrbital,
     rho: &[f64],
     grad_sq: Option<&[f64]>,
@@ -185,11 +186,7 @@ pub(crate) fn deviation(
     par: Parallelism,
 ) -> Vec<f64> {
     let g = &orbital.geometry;
-    let centre = cusps[at].position;
-    let h = g.max_step();
-    let (r1, r2) = (WINDOW_INNER_STEPS * h, WINDOW_OUTER_STEPS * h);
-
-    // The grid's points in the window, as the grid sums saw them.
+    let (r1, r2) = (WINDOW_INNER_STEPS * step, WINDOW_OUTER_STEPS * step);
     let [(l0, h0), (l1, h1), (l2, h2)] = index_box(g, centre, r2);
     let [_, n1, n2] = g.shape;
     let (mut grid_rho, mut grid_sigma, mut grid_weights) = (Vec::new(), Vec::new(), Vec::new());
@@ -206,6 +203,25 @@ pub(crate) fn deviation(
             }
         }
     }
+    let sigma = grad_sq.is_some().then_some(&grid_sigma[..]);
+    functionals.iter().map(|f| weighted_sum(*f, &grid_rho, sigma, Some(&grid_weights), par)).collect()
+}
+
+/// Per functional of `functionals`, the grid's error within the window of cusp model `at`
+/// (grid minus refined), hartree. `rho` and `grad_sq` are what the grid sums used.
+pub(crate) fn deviation(
+    cusps: &[CuspModel],
+    at: usize,
+    orbital: &GridOrbital,
+    rho: &[f64],
+    grad_sq: Option<&[f64]>,
+    functionals: &[&dyn Functional],
+    par: Parallelism,
+) -> Vec<f64> {
+    let g = &orbital.geometry;
+    let centre = cusps[at].position;
+    let h = g.max_step();
+    let (r1, r2) = (WINDOW_INNER_STEPS * h, WINDOW_OUTER_STEPS * h);
 
     // The reconstruction on an atom-centred grid over the window (none on a grid too small for
     // the interpolant: no correction there).
@@ -235,13 +251,11 @@ pub(crate) fn deviation(
     let fine_weights: Vec<f64> = points.iter().map(|p| p.2).collect();
 
     let uses_gradient = grad_sq.is_some();
+    let grid = windowed_grid_sums(centre, h, orbital, rho, grad_sq, functionals, par);
     functionals
         .iter()
-        .map(|f| {
-            let coarse = weighted_sum(*f, &grid_rho, uses_gradient.then_some(&grid_sigma[..]), Some(&grid_weights), par);
-            let fine = weighted_sum(*f, &fine_rho, uses_gradient.then_some(&fine_sigma[..]), Some(&fine_weights), par);
-            coarse - fine
-        })
+        .zip(grid)
+        .map(|(f, grid)| grid - weighted_sum(*f, &fine_rho, uses_gradient.then_some(&fine_sigma[..]), Some(&fine_weights), par))
         .collect()
 }
 

@@ -21,8 +21,9 @@
 //! misses cusps that sit symmetrically between sub-lattice points (all eight see them alike),
 //! hence the cusp term, doubled because it is a first-order model; and it cannot see charge
 //! beyond the box, hence the tail term. With the cusp correction applied, the cusp term is a
-//! quarter of the correction instead, and the sub-lattice sums of the functionals are plain ones
-//! (see `sublattice`); J on the sub-lattices is corrected as on the whole grid.
+//! quarter of the correction instead, and the functionals are compared on the sub-lattices by
+//! their grid sums outside the refined windows (see `sublattice`); J on the sub-lattices is
+//! corrected as on the whole grid.
 //!
 //! The last term covers errors the others do not model: integrands that are not smooth on
 //! nodal surfaces (gradient-corrected exchange most of all), and whatever differs between the grid

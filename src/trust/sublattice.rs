@@ -6,6 +6,7 @@
 //! Coulomb kernel.
 
 use super::Spreads;
+use crate::cusp;
 use crate::diagnostics::{DiagnosticsError, Engine, GridOrbital, GridSums};
 use crate::grid::GridGeometry;
 use crate::par::Parallelism;
@@ -35,16 +36,27 @@ fn sublattice(o: &GridOrbital, offset: [usize; 3]) -> Option<GridOrbital> {
 
 /// Largest deviation of each quantity on the sub-lattices from its value on the whole grid
 /// (zero where the grid is too small to coarsen). J is cusp-corrected on both when the engine
-/// corrects; the functionals are compared as plain grid sums.
+/// corrects. Where the functionals were refined near the nuclei, only what the grid sums
+/// outside the refined windows is compared: the refined part comes from the whole grid alike
+/// for every lattice.
 ///
-/// Plain, because at twice the spacing the correction's interpolation no longer resolves a
-/// valence orbital near a heavy nucleus (on the shared 0.15-bohr cubes its sub-lattice sums are
-/// off by 1–2 % where the whole grid's are within 0.1 %): corrected sub-lattice sums would
-/// measure the coarse grid's failure, not the fine grid's sensitivity to where features sit.
-/// The plain spread includes the cusps' share, which the correction removes, so it errs on the
-/// safe side. The splitting of J has no interpolation and stays sound at 2h.
+/// Not the corrected sub-lattice sums, because at twice the spacing the correction's
+/// interpolation no longer resolves a valence orbital near a heavy nucleus (on the shared
+/// 0.15-bohr cubes its sub-lattice sums are off by 1–2 % where the whole grid's are within
+/// 0.1 %): they would measure the coarse grid's failure, not the fine grid's sensitivity to where
+/// features sit. The windows keep their whole-grid radii on the sub-lattices. The splitting of J
+/// has no interpolation and stays sound at 2h.
 pub(super) fn spreads(engine: &Engine, o: &GridOrbital, sums: &GridSums, par: Parallelism) -> Result<Spreads, DiagnosticsError> {
     let models = sums.models.len();
+    let step = o.geometry.max_step();
+    // Plain grid sums outside the refined windows: the whole sum minus the windowed part.
+    let outside = |orbital: &GridOrbital, g: &GridSums, plain: &[(f64, f64)], par: Parallelism| -> Vec<(f64, f64)> {
+        if sums.refined.is_empty() {
+            return plain.to_vec();
+        }
+        let inside = cusp::windowed_xc(&sums.refined, step, orbital, &g.rho, g.grad_sq.as_deref(), engine.models(), par);
+        plain.iter().zip(inside).map(|(p, w)| (p.0 - w.0, p.1 - w.1)).collect()
+    };
     // The whole grid's plain functional sums: the corrected ones minus what the correction
     // changed.
     let hartree = sums.hartree;
@@ -52,20 +64,24 @@ pub(super) fn spreads(engine: &Engine, o: &GridOrbital, sums: &GridSums, par: Pa
         None => sums.models.clone(),
         Some(applied) => sums.models.iter().zip(&applied.models).map(|(v, d)| (v.0 - d.0, v.1 - d.1)).collect(),
     };
+    let fine_outside = outside(o, sums, &plain_models, par);
     let offsets: Vec<[usize; 3]> = (0..8).map(|k| [k >> 2, (k >> 1) & 1, k & 1]).collect();
     // Sub-lattices run side by side, each on one thread, when the caller allows threads.
     let results = par.map(offsets.len(), |k| match sublattice(o, offsets[k]) {
-        Some(sub) => engine.grid_sums(&sub, Parallelism::Sequential, engine.params().cusp_correction, false, false).map(Some),
+        Some(sub) => engine.grid_sums(&sub, Parallelism::Sequential, engine.params().cusp_correction, false, false).map(|g| {
+            let coarse_outside = outside(&sub, &g, &g.models, Parallelism::Sequential);
+            Some((g.hartree, coarse_outside))
+        }),
         None => Ok(None),
     });
     let mut s = Spreads { hartree: 0.0, models: vec![(0.0, 0.0); models], self_interaction: vec![0.0; models] };
     for r in results {
-        let Some(coarse) = r? else { continue };
-        s.hartree = s.hartree.max((coarse.hartree - hartree).abs());
-        for (m, (x, c)) in coarse.models.iter().zip(&plain_models).enumerate() {
+        let Some((coarse_hartree, coarse_models)) = r? else { continue };
+        s.hartree = s.hartree.max((coarse_hartree - hartree).abs());
+        for (m, (x, c)) in coarse_models.iter().zip(&fine_outside).enumerate() {
             s.models[m].0 = s.models[m].0.max((x.0 - c.0).abs());
             s.models[m].1 = s.models[m].1.max((x.1 - c.1).abs());
-            let delta = coarse.hartree - hartree + x.0 - c.0 + x.1 - c.1;
+            let delta = coarse_hartree - hartree + x.0 - c.0 + x.1 - c.1;
             s.self_interaction[m] = s.self_interaction[m].max(delta.abs());
         }
     }
