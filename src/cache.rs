@@ -33,8 +33,9 @@ pub fn file_digest(path: &Path) -> std::io::Result<blake3::Hash> {
 /// so that results cached by an earlier build are not served as if current.
 /// History: 2 — exchange–correlation near cusps from the rebuilt orbital, sub-lattice spreads
 /// of plain functional sums, optional tail correction; 3 — sub-lattice spreads of the
-/// functionals outside the refined windows.
-const METHODS_REVISION: u32 = 3;
+/// functionals outside the refined windows; 4 — sub-lattice J split with the whole grid's cusp
+/// models.
+const METHODS_REVISION: u32 = 4;
 
 /// Everything besides the file's bytes that determines its orbitals' results.
 pub fn settings_fingerprint(load: &LoadParams, spin: Spin, models: &[Model], engine: &EngineParams) -> String {

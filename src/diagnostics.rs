@@ -348,18 +348,18 @@ impl Engine {
         cell.get_or_init(|| Arc::new(HartreeSolver::new(geometry, &self.params.hartree, par))).clone()
     }
 
-    /// Grid sums of one orbital: norm, J and each model's energies. With `correct`, J is
-    /// cusp-corrected where the orbital has s character at a listed nucleus, and with
-    /// `refine_xc` too the functionals. With `detail`, the uncorrected J is computed as well
-    /// (one more transform), to report the correction's size.
-    pub(crate) fn grid_sums(&self, orbital: &GridOrbital, par: Parallelism, correct: bool, refine_xc: bool, detail: bool) -> Result<GridSums, DiagnosticsError> {
+    /// Grid sums of one orbital: norm, J and each model's energies, with the cusp models
+    /// `cusps` says. With `detail`, the uncorrected J is computed as well (one more transform),
+    /// to report the correction's size.
+    pub(crate) fn grid_sums(&self, orbital: &GridOrbital, par: Parallelism, cusps: CuspModels, detail: bool) -> Result<GridSums, DiagnosticsError> {
         let w = orbital.geometry.voxel_volume();
         let rho = orbital.density();
         let norm = w * par.chunked_sum(rho.len(), |r| rho[r].iter().sum());
-        let cusps: Vec<CuspModel> = if correct {
-            orbital.nuclei.iter().filter_map(|n| CuspModel::fit(orbital, n)).collect()
-        } else {
-            Vec::new()
+        let refine_xc = matches!(cusps, CuspModels::Fitted);
+        let cusps: Vec<CuspModel> = match cusps {
+            CuspModels::Off => Vec::new(),
+            CuspModels::Fitted => orbital.nuclei.iter().filter_map(|n| CuspModel::fit(orbital, n)).collect(),
+            CuspModels::SplitJ(given) => given.to_vec(),
         };
         let plain_hartree = || self.solver(&orbital.geometry, par).self_energy(&rho, par);
         let (hartree, plain) = if cusps.is_empty() {
@@ -407,7 +407,8 @@ impl Engine {
     /// Analyses one spin-orbital: its energies and, unless switched off, their error bars and
     /// flags (see [`crate::trust`]).
     pub fn analyse(&self, orbital: &GridOrbital, par: Parallelism) -> Result<OrbitalReport, DiagnosticsError> {
-        let sums = self.grid_sums(orbital, par, self.params.cusp_correction, true, true)?;
+        let cusps = if self.params.cusp_correction { CuspModels::Fitted } else { CuspModels::Off };
+        let sums = self.grid_sums(orbital, par, cusps, true)?;
         let tail = (self.params.tail_correction || self.params.trust.error_bars).then(|| crate::trust::Tail::estimate(self, orbital, &sums));
         let (mut hartree, mut lsda_exchange, mut energies) = (sums.hartree, sums.lsda_exchange, sums.models.clone());
         // The tail's deviation is grid minus complete: subtract it.
@@ -457,6 +458,17 @@ impl Engine {
         }
         Ok(report)
     }
+}
+
+/// Which cusp models [`Engine::grid_sums`] uses.
+pub(crate) enum CuspModels<'a> {
+    /// None: plain grid sums.
+    Off,
+    /// Fitted to the orbital at each listed nucleus; J and the functionals corrected.
+    Fitted,
+    /// These (fitted on the whole grid of which the orbital is a sub-lattice); J split with
+    /// them, the functionals left plain.
+    SplitJ(&'a [CuspModel]),
 }
 
 /// Plain grid sums of one orbital, with the density and |∇n|² they came from.

@@ -22,8 +22,8 @@
 //! hence the cusp term, doubled because it is a first-order model; and it cannot see charge
 //! beyond the box, hence the tail term. With the cusp correction applied, the cusp term is a
 //! quarter of the correction instead, and the functionals are compared on the sub-lattices by
-//! their grid sums outside the refined windows (see `sublattice`); J on the sub-lattices is
-//! corrected as on the whole grid.
+//! their grid sums outside the refined windows and J is split with the whole grid's cusp
+//! models (see `sublattice`).
 //!
 //! The last term covers errors the others do not model: integrands that are not smooth on
 //! nodal surfaces (gradient-corrected exchange most of all), and whatever differs between the grid

@@ -7,7 +7,7 @@
 
 use super::Spreads;
 use crate::cusp;
-use crate::diagnostics::{DiagnosticsError, Engine, GridOrbital, GridSums};
+use crate::diagnostics::{CuspModels, DiagnosticsError, Engine, GridOrbital, GridSums};
 use crate::grid::GridGeometry;
 use crate::par::Parallelism;
 use std::sync::Arc;
@@ -35,17 +35,16 @@ fn sublattice(o: &GridOrbital, offset: [usize; 3]) -> Option<GridOrbital> {
 }
 
 /// Largest deviation of each quantity on the sub-lattices from its value on the whole grid
-/// (zero where the grid is too small to coarsen). J is cusp-corrected on both when the engine
-/// corrects. Where the functionals were refined near the nuclei, only what the grid sums
-/// outside the refined windows is compared: the refined part comes from the whole grid alike
-/// for every lattice.
+/// (zero where the grid is too small to coarsen). Where the engine corrects cusps, J is split
+/// with the whole grid's cusp models on every lattice, and of the functionals only what the grid
+/// sums outside the refined windows is compared: the refined part comes from the whole grid
+/// alike for every lattice.
 ///
 /// Not the corrected sub-lattice sums, because at twice the spacing the correction's
 /// interpolation no longer resolves a valence orbital near a heavy nucleus (on the shared
 /// 0.15-bohr cubes its sub-lattice sums are off by 1–2 % where the whole grid's are within
 /// 0.1 %): they would measure the coarse grid's failure, not the fine grid's sensitivity to where
-/// features sit. The windows keep their whole-grid radii on the sub-lattices. The splitting of J
-/// has no interpolation and stays sound at 2h.
+/// features sit. The windows keep their whole-grid radii on the sub-lattices.
 pub(super) fn spreads(engine: &Engine, o: &GridOrbital, sums: &GridSums, par: Parallelism) -> Result<Spreads, DiagnosticsError> {
     let models = sums.models.len();
     let step = o.geometry.max_step();
@@ -65,10 +64,13 @@ pub(super) fn spreads(engine: &Engine, o: &GridOrbital, sums: &GridSums, par: Pa
         Some(applied) => sums.models.iter().zip(&applied.models).map(|(v, d)| (v.0 - d.0, v.1 - d.1)).collect(),
     };
     let fine_outside = outside(o, sums, &plain_models, par);
+    // J on the sub-lattices is split with the whole grid's cusp models: refitted at 2h, a cusp
+    // such as oxygen's (Z·h = 2.4) would rest on a single point.
+    let models_for_j = || if sums.refined.is_empty() { CuspModels::Off } else { CuspModels::SplitJ(&sums.refined) };
     let offsets: Vec<[usize; 3]> = (0..8).map(|k| [k >> 2, (k >> 1) & 1, k & 1]).collect();
     // Sub-lattices run side by side, each on one thread, when the caller allows threads.
     let results = par.map(offsets.len(), |k| match sublattice(o, offsets[k]) {
-        Some(sub) => engine.grid_sums(&sub, Parallelism::Sequential, engine.params().cusp_correction, false, false).map(|g| {
+        Some(sub) => engine.grid_sums(&sub, Parallelism::Sequential, models_for_j(), false).map(|g| {
             let coarse_outside = outside(&sub, &g, &g.models, Parallelism::Sequential);
             Some((g.hartree, coarse_outside))
         }),
