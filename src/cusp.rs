@@ -298,9 +298,14 @@ pub(crate) fn hartree(engine: &Engine, g: &GridGeometry, rho: &[f64], models: &[
     Ok(smooth + cross + exact)
 }
 
-/// Per model of `models`, (exchange, correlation) from `per_functional`, which gets each distinct
-/// functional once however many models share it.
-fn per_model(models: &[crate::xc::Model], per_functional: impl FnOnce(&[&dyn Functional]) -> Vec<f64>) -> Vec<(f64, f64)> {
+/// Per model of `models`, (exchange, correlation) summed over the `cusps`: `per_cusp(at,
+/// functionals)` gives the values at cusp `at` of each distinct functional, once however many
+/// models share it.
+fn sum_per_model(
+    models: &[crate::xc::Model],
+    cusps: usize,
+    per_cusp: impl Fn(usize, &[&dyn Functional]) -> Vec<f64>,
+) -> Vec<(f64, f64)> {
     fn slot<'f>(f: &'f dyn Functional, distinct: &mut Vec<&'f dyn Functional>) -> usize {
         distinct.iter().position(|d| d.part() == f.part() && d.id() == f.id()).unwrap_or_else(|| {
             distinct.push(f);
@@ -312,7 +317,12 @@ fn per_model(models: &[crate::xc::Model], per_functional: impl FnOnce(&[&dyn Fun
         .iter()
         .map(|m| (slot(m.exchange.as_ref(), &mut distinct), m.correlation.as_deref().map(|c| slot(c, &mut distinct))))
         .collect();
-    let values = per_functional(&distinct);
+    let mut values = vec![0.0; distinct.len()];
+    for at in 0..cusps {
+        for (v, d) in values.iter_mut().zip(per_cusp(at, &distinct)) {
+            *v += d;
+        }
+    }
     slots.iter().map(|&(x, c)| (values[x], c.map_or(0.0, |c| values[c]))).collect()
 }
 
@@ -327,15 +337,7 @@ pub(crate) fn xc_deviation(
     models: &[crate::xc::Model],
     par: Parallelism,
 ) -> Vec<(f64, f64)> {
-    per_model(models, |functionals| {
-        let mut total = vec![0.0; functionals.len()];
-        for at in 0..cusps.len() {
-            for (t, d) in total.iter_mut().zip(refine::deviation(cusps, at, orbital, rho, grad_sq, functionals, par)) {
-                *t += d;
-            }
-        }
-        total
-    })
+    sum_per_model(models, cusps.len(), |at, functionals| refine::deviation(cusps, at, orbital, rho, grad_sq, functionals, par))
 }
 
 /// Per model of `models`, the grid sums (exchange, correlation) inside the windows that the
@@ -350,14 +352,8 @@ pub(crate) fn windowed_xc(
     models: &[crate::xc::Model],
     par: Parallelism,
 ) -> Vec<(f64, f64)> {
-    per_model(models, |functionals| {
-        let mut total = vec![0.0; functionals.len()];
-        for c in cusps {
-            for (t, d) in total.iter_mut().zip(refine::windowed_grid_sums(c.position, step, orbital, rho, grad_sq, functionals, par)) {
-                *t += d;
-            }
-        }
-        total
+    sum_per_model(models, cusps.len(), |at, functionals| {
+        refine::windowed_grid_sums(cusps[at].position, step, orbital, rho, grad_sq, functionals, par)
     })
 }
 

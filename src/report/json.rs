@@ -79,20 +79,21 @@ pub fn orbitals(report: &Report) -> Vec<Value> {
                 "cusp_correction": o.cusp_correction.as_ref().map(|c| json!({
                     "nuclei": c.nuclei,
                     "hartree": c.hartree,
-                    "models": report.models.iter().zip(&c.models).map(|(m, d)| {
-                        (m.name.clone(), json!({"exchange": d.0, "correlation": d.1}))
-                    }).collect::<Map<_, _>>(),
+                    "models": changes_per_model(report, &c.models),
                 })),
                 "tail_correction": o.tail_correction.as_ref().map(|t| json!({
                     "lost_charge": t.lost_charge,
                     "hartree": t.hartree,
-                    "models": report.models.iter().zip(&t.models).map(|(m, d)| {
-                        (m.name.clone(), json!({"exchange": d.0, "correlation": d.1}))
-                    }).collect::<Map<_, _>>(),
+                    "models": changes_per_model(report, &t.models),
                 })),
             })
         })
         .collect()
+}
+
+/// A correction's (exchange, correlation) changes, keyed by model name.
+fn changes_per_model(report: &Report, changes: &[(f64, f64)]) -> Map<String, Value> {
+    report.models.iter().zip(changes).map(|(m, d)| (m.name.clone(), json!({"exchange": d.0, "correlation": d.1}))).collect()
 }
 
 /// Per-model totals, keyed by model name.
