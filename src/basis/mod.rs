@@ -167,13 +167,54 @@ impl Shell {
         })
     }
 
-    /// Number of basis functions (2l+1 spherical, (l+1)(l+2)/2 Cartesian).
-    pub fn function_count(&self) -> usize {
-        if self.spherical {
-            angular::spherical_count(self.l)
-        } else {
-            angular::cartesian_count(self.l)
+    /// A shell from its parts as a reader has decided them: `raw`, the coefficients of the plain
+    /// primitives x^l e^{−α_p r²} of the radial part R (any normalisation: nothing is rescaled
+    /// here), and `rows`, the matrix T (functions × internal Cartesian components, row-major)
+    /// with φ_j = Σ_k T_jk χ_k, χ_abc = x^a y^b z^c R. For file conventions other than the
+    /// molden one (other component orders, normalisations, signs; uncontracted primitives).
+    /// `spherical` only describes the shell in reports. Errors for l above [`MAX_L`], empty or
+    /// mismatched lists, non-positive exponents, or non-finite numbers.
+    pub fn from_parts(
+        centre: [f64; 3],
+        l: u32,
+        spherical: bool,
+        exponents: Vec<f64>,
+        raw: Vec<f64>,
+        rows: Vec<f64>,
+        atom: usize,
+    ) -> Result<Shell, BasisError> {
+        if l > MAX_L {
+            return Err(BasisError::plain(format!(
+                "expected a shell of angular momentum at most {MAX_L}, found {l}"
+            )));
         }
+        if exponents.is_empty() || exponents.len() != raw.len() {
+            return Err(BasisError::plain(format!(
+                "expected as many contraction coefficients as exponents (at least one), found {} and {}",
+                raw.len(),
+                exponents.len()
+            )));
+        }
+        if let Some(a) = exponents.iter().find(|a| !(a.is_finite() && **a > 0.0)) {
+            return Err(BasisError::plain(format!("expected positive exponents, found {a}")));
+        }
+        if let Some(c) = raw.iter().chain(&rows).find(|c| !c.is_finite()) {
+            return Err(BasisError::plain(format!("expected finite coefficients, found {c}")));
+        }
+        let nc = angular::cartesian_count(l);
+        if rows.is_empty() || rows.len() % nc != 0 {
+            return Err(BasisError::plain(format!(
+                "expected whole rows of {nc} Cartesian components, found {} numbers",
+                rows.len()
+            )));
+        }
+        Ok(Shell { centre, l, spherical: spherical && l >= 2, exponents, atom, raw, to_cartesian: rows })
+    }
+
+    /// Number of basis functions (2l+1 spherical, (l+1)(l+2)/2 Cartesian in the molden
+    /// convention; the rows of T in general).
+    pub fn function_count(&self) -> usize {
+        self.to_cartesian.len() / angular::cartesian_count(self.l)
     }
 
     /// Number of Cartesian components used internally.
@@ -189,12 +230,12 @@ impl Shell {
 }
 
 /// N_l(α): normalises x^l e^{−α r²}.
-fn primitive_norm(l: u32, a: f64) -> f64 {
+pub(crate) fn primitive_norm(l: u32, a: f64) -> f64 {
     ((4.0 * a).powi(l as i32) * (2.0 * a / std::f64::consts::PI).powf(1.5) / angular::odd_double_factorial(l)).sqrt()
 }
 
 /// ⟨χ_l00|χ_l00⟩ for plain-primitive coefficients `raw`.
-fn contraction_norm2(l: u32, exponents: &[f64], raw: &[f64]) -> f64 {
+pub(crate) fn contraction_norm2(l: u32, exponents: &[f64], raw: &[f64]) -> f64 {
     let df = angular::odd_double_factorial(l);
     let mut sum = 0.0;
     for (&ap, &rp) in exponents.iter().zip(raw) {
