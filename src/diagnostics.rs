@@ -180,6 +180,25 @@ pub struct OrbitalReport {
     /// Which orbitals these are: as the file gives them, or Foster–Boys localized.
     #[serde(default)]
     pub set: OrbitalSet,
+    /// How the basis-set file was read and checked (`None` for grid files).
+    #[serde(default)]
+    pub input: Option<InputCheck>,
+}
+
+/// How a basis-set file's numbers were read, and the evidence that the reading is right: the
+/// same for every orbital of the file.
+#[derive(Clone, Debug, PartialEq, Serialize, Deserialize)]
+pub struct InputCheck {
+    /// File format: `molden`, `fchk`, `wfn` or `wfx`.
+    pub format: String,
+    /// The program the file names as its writer, if any (a hint only).
+    pub writer: Option<String>,
+    /// The convention its numbers were read with (see `basis::convention`).
+    pub convention: String,
+    /// max |CᵀSC − I| over the file's occupied orbitals, per spin channel (dimensionless).
+    pub orthonormality: f64,
+    /// The largest deviation accepted for this file (1e-6, or what its printed digits allow).
+    pub tolerance: f64,
 }
 
 /// Canonical orbitals (as the program wrote them) or localized ones formed from them.
@@ -451,6 +470,7 @@ impl Engine {
             tail_correction,
             energy: None,
             set: OrbitalSet::Canonical,
+            input: None,
         };
         check_finite(&report, &self.models)?;
         if let Some(tail) = tail.as_ref().filter(|_| self.params.trust.error_bars) {

@@ -19,9 +19,9 @@
 //! spin-orbitals sharing its electrons.
 
 use crate::basis::coulomb::{CoulombParams, self_energies_with};
-use crate::basis::{BasisError, BasisSet, MolecularOrbitals, OrbitalSpin};
+use crate::basis::{BasisConvention, BasisError, BasisSet, MolecularOrbitals, OrbitalSpin};
 use crate::diagnostics::{
-    Engine, GridOrbital, Kind, ModelEnergies, ModelErrors, OrbitalErrors, OrbitalReport, OrbitalSet, Spin, weighted_sum,
+    Engine, GridOrbital, InputCheck, Kind, ModelEnergies, ModelErrors, OrbitalErrors, OrbitalReport, OrbitalSet, Spin, weighted_sum,
 };
 use crate::localize::{ChannelLocalization, LocalizeParams, boys, rotate};
 use crate::grid::{GridGeometry, Nucleus};
@@ -150,9 +150,20 @@ fn grid_integrals(
 /// Analyses every occupied orbital of a molden file with the engine's models (its Coulomb and
 /// cusp settings do not apply: J is exact).
 pub fn analyse_molden(path: &Path, engine: &Engine, params: &MolecularParams, par: Parallelism) -> Result<Vec<OrbitalReport>, BasisError> {
-    let (basis, orbitals) = crate::basis::read(path)?;
+    let (basis, orbitals, convention) = crate::basis::read_checked(path)?;
     let occupied = occupied(&orbitals, &crate::input::stem(path));
-    Ok(analyse_occupied(path, &basis, &occupied, engine, params, par))
+    Ok(analyse_occupied(path, &basis, &occupied, &convention, engine, params, par))
+}
+
+/// The report form of how a file was read.
+fn input_check(c: &BasisConvention) -> InputCheck {
+    InputCheck {
+        format: c.format.to_string(),
+        writer: c.writer.map(str::to_string),
+        convention: c.convention.clone(),
+        orthonormality: c.check.max_deviation,
+        tolerance: c.check.tolerance(),
+    }
 }
 
 /// [`analyse_molden`] for the Foster–Boys localized orbitals of the file: within each spin
@@ -166,7 +177,7 @@ pub fn analyse_molden_localized(
     localize: &LocalizeParams,
     par: Parallelism,
 ) -> Result<(Vec<OrbitalReport>, Vec<ChannelLocalization>), BasisError> {
-    let (basis, orbitals) = crate::basis::read(path)?;
+    let (basis, orbitals, convention) = crate::basis::read_checked(path)?;
     let stem = crate::input::stem(path);
     let canonical = occupied(&orbitals, &stem);
     let dipoles = basis.dipole_matrices();
@@ -215,7 +226,7 @@ pub fn analyse_molden_localized(
         }
         channels.push(ChannelLocalization { spin, orbitals: channel.len(), result });
     }
-    let mut reports = analyse_occupied(path, &basis, &localized, engine, params, par);
+    let mut reports = analyse_occupied(path, &basis, &localized, &convention, engine, params, par);
     reports.iter_mut().for_each(|r| r.set = OrbitalSet::Localized);
     Ok((reports, channels))
 }
@@ -225,10 +236,12 @@ fn analyse_occupied(
     path: &Path,
     basis: &BasisSet,
     occupied: &[Occupied],
+    convention: &BasisConvention,
     engine: &Engine,
     params: &MolecularParams,
     par: Parallelism,
 ) -> Vec<OrbitalReport> {
+    let input = input_check(convention);
 
     // Distinct functionals, LSDA exchange first (for α*).
     let mut functionals: Vec<Arc<dyn Functional>> = vec![Arc::new(XAlpha::lsda())];
@@ -302,6 +315,7 @@ fn analyse_occupied(
             tail_correction: None,
             energy: o.energy,
             set: OrbitalSet::Canonical,
+            input: Some(input.clone()),
         });
     }
     reports

@@ -118,6 +118,20 @@ impl<'a, E: LineErrors> Fields<'a, E> {
         })
     }
 
+    /// [`Fields::float`], and half a unit in the last digit as written (the absolute rounding
+    /// the writer may have made: `0.1234` → 5e-5, `1.5E-03` → 5e-5, `12` → 0.5).
+    pub(crate) fn float_with_resolution(&mut self, what: &str) -> Result<(f64, f64), E> {
+        let before = self.rest;
+        let value = self.float(what)?;
+        let tok = before
+            .iter()
+            .position(|&b| !E::is_blank(b))
+            .map(|start| &before[start..])
+            .map(|t| &t[..t.iter().position(|&b| E::is_blank(b)).unwrap_or(t.len())])
+            .unwrap_or_default();
+        Ok((value, half_unit_in_last_place(tok)))
+    }
+
     /// Requires that nothing but blanks remain on the line.
     pub(crate) fn finish(&mut self, after: &str) -> Result<(), E> {
         match self.token() {
@@ -126,5 +140,37 @@ impl<'a, E: LineErrors> Fields<'a, E> {
                 Err(self.syntax(format!("the end of the line after {after}"), excerpt(tok)))
             }
         }
+    }
+}
+
+/// Half a unit in the last written digit of a number token that parsed (mantissa digits after
+/// the point, shifted by an `E`/`D` exponent).
+pub(crate) fn half_unit_in_last_place(tok: &[u8]) -> f64 {
+    let split = tok.iter().position(|b| matches!(b, b'e' | b'E' | b'd' | b'D'));
+    let (mantissa, exponent) = match split {
+        Some(k) => (&tok[..k], &tok[k + 1..]),
+        None => (tok, &tok[tok.len()..]),
+    };
+    let decimals = mantissa
+        .iter()
+        .position(|&b| b == b'.')
+        .map_or(0, |p| mantissa[p + 1..].iter().filter(|b| b.is_ascii_digit()).count()) as i32;
+    let exponent = std::str::from_utf8(exponent).ok().and_then(|e| e.parse::<i32>().ok()).unwrap_or(0);
+    0.5 * 10f64.powi(exponent.saturating_sub(decimals).clamp(-320, 300))
+}
+
+#[cfg(test)]
+mod tests {
+    use super::half_unit_in_last_place as h;
+
+    #[test]
+    fn resolution_of_written_numbers() {
+        let close = |a: f64, b: f64| (a - b).abs() <= 1e-12 * b;
+        assert!(close(h(b"0.1234"), 5e-5));
+        assert!(close(h(b"-0.2886751346"), 5e-11));
+        assert!(close(h(b"1.5E-03"), 5e-5));
+        assert!(close(h(b"1.5D+02"), 5.0));
+        assert!(close(h(b"12"), 0.5));
+        assert!(close(h(b".5"), 0.05));
     }
 }

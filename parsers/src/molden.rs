@@ -248,6 +248,9 @@ pub struct MoldenOrbital {
     pub line: usize,
     /// 1-based line of each coefficient, parallel to `coefficients`.
     pub coefficient_lines: Vec<usize>,
+    /// Largest half unit in the last written digit among the coefficients (absolute): how
+    /// much the writer's rounding may have changed any of them.
+    pub coefficient_resolution: f64,
 }
 
 /// Reads a molden file, gzip-compressed or not (recognised by its first two bytes, not its
@@ -702,6 +705,7 @@ impl<'a> Parser_<'a> {
                         coefficients: Vec::new(),
                         line: no,
                         coefficient_lines: Vec::new(),
+                        coefficient_resolution: 0.0,
                     });
                 }
                 let orbital = current.as_mut().expect("set just above");
@@ -715,9 +719,10 @@ impl<'a> Parser_<'a> {
                     excerpt(line.trim_ascii()),
                 ));
             };
-            let (index, value) = self.coefficient(no, line)?;
+            let (index, value, resolution) = self.coefficient(no, line)?;
             orbital.coefficients.push((index, value));
             orbital.coefficient_lines.push(no);
+            orbital.coefficient_resolution = orbital.coefficient_resolution.max(resolution);
         }
         if let Some(done) = current {
             if done.coefficients.is_empty() {
@@ -791,7 +796,7 @@ impl<'a> Parser_<'a> {
         Ok(())
     }
 
-    fn coefficient(&self, no: usize, line: &[u8]) -> Result<(usize, f64), MoldenError> {
+    fn coefficient(&self, no: usize, line: &[u8]) -> Result<(usize, f64, f64), MoldenError> {
         let expected = "a coefficient line (index, then value) or an orbital's key line (Sym=, Ene=, Spin=, Occup=)";
         let Ok((after, (digits, gap))) = coefficient_index(line) else {
             return Err(self.syntax(no, expected, excerpt(line.trim_ascii())));
@@ -806,9 +811,9 @@ impl<'a> Parser_<'a> {
             .filter(|&i| i >= 1)
             .ok_or_else(|| self.syntax(no, "a coefficient index from 1 up", excerpt(digits)))?;
         let mut f = Fields::new(self.src, no, after);
-        let value = f.float("the coefficient")?;
+        let (value, resolution) = f.float_with_resolution("the coefficient")?;
         f.finish("the coefficient")?;
-        Ok((index, value))
+        Ok((index, value, resolution))
     }
 }
 

@@ -21,6 +21,7 @@
 
 pub mod angular;
 pub mod boys;
+pub mod convention;
 pub mod coulomb;
 mod eval;
 pub(crate) mod hermite;
@@ -37,6 +38,8 @@ use sixray_parsers::molden::{MoldenError, MoldenFile, MoldenFlag, ShellType, rea
 
 use crate::grid::BOHR_PER_ANGSTROM;
 
+pub use convention::{BasisConvention, Convention, Orthonormality};
+use convention::{CartesianScale, HarmonicSigns, PrimitiveScale};
 pub use eval::OrbitalValues;
 pub use orbitals::{MolecularOrbitals, Orbital, OrbitalSpin};
 
@@ -247,6 +250,64 @@ pub(crate) fn contraction_norm2(l: u32, exponents: &[f64], raw: &[f64]) -> f64 {
     sum
 }
 
+/// A molden shell read under `convention` (see [`convention`]).
+fn convention_shell(
+    convention: &Convention,
+    centre: [f64; 3],
+    l: u32,
+    spherical: bool,
+    exponents: Vec<f64>,
+    coefficients: &[f64],
+    atom: usize,
+) -> Result<Shell, BasisError> {
+    if *convention == Convention::MOLDEN {
+        return Shell::new(centre, l, spherical, exponents, coefficients, atom);
+    }
+    if l > MAX_L {
+        return Err(BasisError::plain(format!("expected a shell of angular momentum at most {MAX_L}, found {l}")));
+    }
+    let mut raw: Vec<f64> = match convention.primitives {
+        PrimitiveScale::Normalised => exponents.iter().zip(coefficients).map(|(&a, &d)| d * primitive_norm(l, a)).collect(),
+        PrimitiveScale::Plain => coefficients.to_vec(),
+    };
+    if convention.renormalised {
+        let norm2 = contraction_norm2(l, &exponents, &raw);
+        if !(norm2.is_finite() && norm2 > 0.0) {
+            return Err(BasisError::plain(format!("expected a contraction of non-zero norm, found norm² {norm2:e}")));
+        }
+        let scale = 1.0 / norm2.sqrt();
+        raw.iter_mut().for_each(|r| *r *= scale);
+    }
+    let spherical = spherical && l >= 2;
+    let mut rows = angular::transformation(l, spherical)
+        .ok_or_else(|| BasisError::plain(format!("no component order for l = {l}")))?;
+    let nc = angular::cartesian_count(l);
+    if spherical {
+        if convention.signs == HarmonicSigns::FlippedHighM && (l == 3 || l == 4) {
+            for (j, m) in angular::molden_m_order(l).into_iter().enumerate() {
+                if m.unsigned_abs() >= 3 {
+                    rows[j * nc..(j + 1) * nc].iter_mut().for_each(|t| *t = -*t);
+                }
+            }
+        }
+    } else if l >= 2 {
+        let order = angular::molden_cartesian_order(l)
+            .ok_or_else(|| BasisError::plain(format!("no Cartesian component order for l = {l}")))?;
+        for (j, e) in order.into_iter().enumerate() {
+            // norm² of x^a y^b z^c relative to the component normalised on its own.
+            let w = e.iter().map(|&k| angular::odd_double_factorial(k)).product::<f64>();
+            let factor = match convention.cartesian {
+                CartesianScale::EachComponent => 1.0,
+                CartesianScale::LikeAxis => (w / angular::odd_double_factorial(l)).sqrt(),
+                CartesianScale::LikeMixed => w.sqrt(),
+                CartesianScale::Uniform => angular::odd_double_factorial(l).sqrt(),
+            };
+            rows[j * nc..(j + 1) * nc].iter_mut().for_each(|t| *t *= factor);
+        }
+    }
+    Shell::from_parts(centre, l, spherical, exponents, raw, rows, atom)
+}
+
 /// An atom of the basis set's molecule.
 #[derive(Debug, Clone, PartialEq)]
 pub struct Atom {
@@ -330,6 +391,12 @@ impl BasisSet {
     /// Cartesian or spherical as its flags say (Cartesian without flags), `sp` shells split
     /// into an s and a p shell. Errors name the file and line.
     pub fn from_molden(m: &MoldenFile) -> Result<BasisSet, BasisError> {
+        Self::from_molden_with(m, &Convention::MOLDEN)
+    }
+
+    /// [`BasisSet::from_molden`] with the file's numbers read under `convention` (see
+    /// [`convention`]).
+    pub fn from_molden_with(m: &MoldenFile, convention: &Convention) -> Result<BasisSet, BasisError> {
         let path = &m.source;
         let scale = match m.atoms_unit {
             Some(LengthUnit::Bohr) => 1.0,
@@ -434,9 +501,9 @@ impl BasisSet {
                     }
                 };
                 for (l, coefficients) in parts {
-                    let sph = l >= 2 && spherical[l as usize - 2];
-                    let shell =
-                        Shell::new(centre, l, sph, exponents.clone(), &coefficients, atom).map_err(|e| match e {
+                    let sph = l >= 2 && spherical.get(l as usize - 2).copied().unwrap_or(false);
+                    let shell = convention_shell(convention, centre, l, sph, exponents.clone(), &coefficients, atom)
+                        .map_err(|e| match e {
                             BasisError::Invalid { message, .. } => BasisError::at(path, Some(s.line), message),
                             other => other,
                         })?;
@@ -485,9 +552,14 @@ impl BasisSet {
 }
 
 /// Reads a molden file (plain or gzip) and builds its basis set and orbitals.
+/// The convention is decided from the orbitals' orthonormality ([`convention`]); files no
+/// convention fits are refused.
 pub fn read(path: &Path) -> Result<(BasisSet, MolecularOrbitals), BasisError> {
+    read_checked(path).map(|(b, o, _)| (b, o))
+}
+
+/// [`read`], with the convention used and its evidence.
+pub fn read_checked(path: &Path) -> Result<(BasisSet, MolecularOrbitals, BasisConvention), BasisError> {
     let file = read_molden(path)?;
-    let basis = BasisSet::from_molden(&file)?;
-    let orbitals = MolecularOrbitals::from_molden(&file, &basis)?;
-    Ok((basis, orbitals))
+    convention::detect(&file)
 }

@@ -161,6 +161,7 @@ mod tests {
             tail_correction: None,
             energy: None,
             set: Default::default(),
+            input: None,
         }
     }
 

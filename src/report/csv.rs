@@ -3,7 +3,7 @@
 use super::Report;
 
 /// Column names, in order.
-pub const COLUMNS: [&str; 28] = [
+pub const COLUMNS: [&str; 31] = [
     "rank",
     "source",
     "label",
@@ -32,6 +32,9 @@ pub const COLUMNS: [&str; 28] = [
     "tail_hartree",
     "tail_exchange",
     "tail_correlation",
+    "input_format",
+    "input_convention",
+    "orthonormality",
 ];
 
 /// A field quoted where RFC 4180 requires it.
@@ -84,6 +87,9 @@ pub fn rows(report: &Report, leading: &[String], out: &mut String) {
                 opt(o.tail_correction.as_ref().map(|t| t.hartree)),
                 opt(o.tail_correction.as_ref().map(|t| t.models[k].0)),
                 opt(o.tail_correction.as_ref().map(|t| t.models[k].1)),
+                o.input.as_ref().map_or(String::new(), |c| c.format.clone()),
+                o.input.as_ref().map_or(String::new(), |c| field(&c.convention)),
+                opt(o.input.as_ref().map(|c| c.orthonormality)),
             ];
             let line: Vec<&str> = leading.iter().map(String::as_str).chain(cells.iter().map(String::as_str)).collect();
             out.push_str(&line.join(","));

@@ -11,7 +11,9 @@
 //!                  "cusp_correction": {"nuclei", "hartree", "models": {MODEL: {"exchange",
 //!                  "correlation"}}} or null,
 //!                  "tail_correction": {"lost_charge", "hartree", "models": {MODEL:
-//!                  {"exchange", "correlation"}}} or null} ],
+//!                  {"exchange", "correlation"}}} or null,
+//!                  "input": {"format", "writer", "convention", "orthonormality",
+//!                  "tolerance"} or null (basis-set files: how they were read)} ],
 //!                  // worst first; corrections: corrected − plain
 //!   "totals": {MODEL: {"perdew_zunger", "mean_cancellation"}}, "spin_orbitals": N,
 //!   "failures": [{"source", "error"}],
@@ -85,6 +87,13 @@ pub fn orbitals(report: &Report) -> Vec<Value> {
                     "lost_charge": t.lost_charge,
                     "hartree": t.hartree,
                     "models": changes_per_model(report, &t.models),
+                })),
+                "input": o.input.as_ref().map(|c| json!({
+                    "format": c.format,
+                    "writer": c.writer,
+                    "convention": c.convention,
+                    "orthonormality": c.orthonormality,
+                    "tolerance": c.tolerance,
                 })),
             })
         })

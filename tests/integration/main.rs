@@ -11,5 +11,6 @@ mod functionals;
 mod html;
 mod inspect;
 mod localized;
+mod real_world;
 mod reference;
 mod trust;

@@ -42,6 +42,7 @@ fn orbital(label: &str, spin: Spin, hartree: f64, models: &[(f64, f64)], errors:
         tail_correction: None,
         energy: None,
             set: Default::default(),
+            input: None,
     }
 }
 
