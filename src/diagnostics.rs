@@ -210,14 +210,18 @@ pub enum OrbitalSet {
     Canonical,
     /// Foster–Boys localized within each spin channel ([`crate::localize`]).
     Localized,
+    /// Natural orbitals of a correlated calculation, with fractional occupations as the file
+    /// gives them.
+    Natural,
 }
 
 impl OrbitalSet {
-    /// `canonical` or `localized`.
+    /// `canonical`, `localized` or `natural`.
     pub fn as_str(self) -> &'static str {
         match self {
             OrbitalSet::Canonical => "canonical",
             OrbitalSet::Localized => "localized",
+            OrbitalSet::Natural => "natural",
         }
     }
 }

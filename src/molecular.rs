@@ -16,7 +16,10 @@
 //! angular quadrature converges only as 1/n² and unevenly. Occupations and spins come from the file: in a
 //! restricted file an orbital with two electrons stands for two spin-orbitals of one electron,
 //! one with at most one electron for a single α spin-orbital, and one in between for two
-//! spin-orbitals sharing its electrons.
+//! spin-orbitals sharing its electrons. Natural orbitals (fractional occupations f_i) of a
+//! restricted file are always two spin-orbitals of f_i/2 electrons each: n_i = (f_i/2)|φ_i|²
+//! per spin, and δ_i keeps its meaning (zero for the exact functional, whose E_xc of a
+//! fractional one-electron density is −J, the ensemble result).
 
 use crate::basis::coulomb::{CoulombParams, self_energies_with};
 use crate::basis::{BasisConvention, BasisError, BasisSet, MolecularOrbitals, OrbitalSpin};
@@ -94,7 +97,8 @@ fn occupied(orbitals: &MolecularOrbitals, stem: &str) -> Vec<Occupied> {
         .map(|o| {
             let f = o.occupation.unwrap_or(0.0);
             let (spin, occupation, suffix) = match o.spin {
-                OrbitalSpin::Restricted if f > 1.0 => (Spin::Restricted, (f / 2.0).min(1.0), ""),
+                // A restricted natural orbital holds f/2 electrons of each spin, however few.
+                OrbitalSpin::Restricted if f > 1.0 || orbitals.natural => (Spin::Restricted, (f / 2.0).min(1.0), ""),
                 OrbitalSpin::Restricted => (Spin::Alpha, f, ""),
                 OrbitalSpin::Alpha => (Spin::Alpha, f.min(1.0), "a"),
                 OrbitalSpin::Beta => (Spin::Beta, f.min(1.0), "b"),
@@ -152,7 +156,11 @@ fn grid_integrals(
 pub fn analyse_molden(path: &Path, engine: &Engine, params: &MolecularParams, par: Parallelism) -> Result<Vec<OrbitalReport>, BasisError> {
     let (basis, orbitals, convention) = crate::basis::read_checked(path)?;
     let occupied = occupied(&orbitals, &crate::input::stem(path));
-    Ok(analyse_occupied(path, &basis, &occupied, &convention, engine, params, par))
+    let mut reports = analyse_occupied(path, &basis, &occupied, &convention, engine, params, par);
+    if orbitals.natural {
+        reports.iter_mut().for_each(|r| r.set = OrbitalSet::Natural);
+    }
+    Ok(reports)
 }
 
 /// The report form of how a file was read.

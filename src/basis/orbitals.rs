@@ -3,7 +3,8 @@
 //!
 //! Spin: a file with any `Spin= Beta` orbital is unrestricted (each orbital one spin-orbital,
 //! occupation at most 1); otherwise it is restricted (each orbital a spatial orbital,
-//! occupation up to 2), whatever the `Spin= Alpha` lines say. Orbitals are numbered from 1
+//! occupation up to 2), whatever the `Spin= Alpha` lines say. A file with fractional
+//! occupations holds natural orbitals. Orbitals are numbered from 1
 //! within their spin channel in file order (restricted: one channel).
 
 use sixray_parsers::molden::{MoldenFile, MoldenSpin};
@@ -65,6 +66,19 @@ pub struct MolecularOrbitals {
     pub orbitals: Vec<Orbital>,
     /// Whether the file is restricted (no `Spin= Beta` orbital).
     pub restricted: bool,
+    /// Whether these are natural orbitals of a correlated calculation: some occupation is
+    /// fractional (further than [`FRACTIONAL`] from 0, 1 and 2), or the file says so.
+    pub natural: bool,
+}
+
+/// How far from a whole number an occupation must be to count as fractional: writers print
+/// occupations to six or more decimals, and natural-orbital occupations of correlated
+/// calculations differ from whole numbers by 1e-5 and more.
+pub const FRACTIONAL: f64 = 1e-6;
+
+/// Whether any occupation in `occupations` is fractional (see [`FRACTIONAL`]).
+pub fn any_fractional(occupations: impl IntoIterator<Item = f64>) -> bool {
+    occupations.into_iter().any(|f| (f - f.round()).abs() > FRACTIONAL)
 }
 
 impl MolecularOrbitals {
@@ -127,7 +141,8 @@ impl MolecularOrbitals {
                 line: o.line,
             });
         }
-        Ok(MolecularOrbitals { orbitals, restricted })
+        let natural = any_fractional(orbitals.iter().filter_map(|o| o.occupation));
+        Ok(MolecularOrbitals { orbitals, restricted, natural })
     }
 
     /// The occupied orbitals, in file order.

@@ -299,6 +299,7 @@ fn render(reports: &[(OrbitalSet, Report)], format: Format, units: EnergyUnit) -
                 let title = match set {
                     OrbitalSet::Canonical => "Canonical orbitals",
                     OrbitalSet::Localized => "Foster–Boys localized orbitals",
+                    OrbitalSet::Natural => "Natural orbitals",
                 };
                 if matches!(format, Format::Markdown) { format!("**{title}**\n\n") } else { format!("{title}\n\n") }
             };

@@ -24,7 +24,7 @@
 //! writes the same bytes. (`report.html` shows a date: the caller's, or the newest modification
 //! date among the input files, which a rerun does not change.)
 
-use super::text::{Table, localization_line, markdown_failures, markdown_orbitals, markdown_totals};
+use super::text::{Table, input_lines, localization_line, markdown_failures, markdown_orbitals, markdown_totals};
 use super::{EnergyUnit, Report, csv, flags_text, html, json, write_atomic};
 use crate::batch::summary::{ModelStats, SetSummary};
 use crate::batch::{CalculationResult, ReportFormat, Workflow};
@@ -290,6 +290,9 @@ pub fn render_markdown(report: &BatchReport, unit: EnergyUnit) -> String {
             out += "**Failed**: the orbitals below are incomplete and excluded from the statistics above.\n\n";
             out += &markdown_failures(&c.outcome.failures);
             out += "\n";
+        }
+        for l in input_lines(&c.outcome.ranking.orbitals) {
+            out += &format!("Basis-set file {l}.\n\n");
         }
         for l in &c.outcome.localization {
             out += &format!("Foster–Boys localization of {}.\n\n", localization_line(l));

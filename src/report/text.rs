@@ -155,6 +155,26 @@ pub fn localization_line(l: &LocalizationSummary) -> String {
     )
 }
 
+/// How each basis-set file among `orbitals` was read, one line per file in first-seen order:
+/// `FILE: molden (writer ORCA), read as CONVENTION, max |CᵀSC − I| = 7.5e-11`.
+pub fn input_lines(orbitals: &[OrbitalReport]) -> Vec<String> {
+    let mut seen: Vec<&str> = Vec::new();
+    let mut out = Vec::new();
+    for o in orbitals {
+        let Some(c) = &o.input else { continue };
+        if seen.contains(&o.source.as_str()) {
+            continue;
+        }
+        seen.push(&o.source);
+        let writer = c.writer.as_ref().map_or(String::new(), |w| format!(" (writer {w})"));
+        out.push(format!(
+            "{}: {}{writer}, read as {}, max |CᵀSC − I| = {:.1e}",
+            o.source, c.format, c.convention, c.orthonormality
+        ));
+    }
+    out
+}
+
 /// The terminal table.
 pub fn render_table(report: &Report, unit: EnergyUnit) -> String {
     let mut t = orbital_table(unit);
@@ -176,6 +196,13 @@ pub fn render_table(report: &Report, unit: EnergyUnit) -> String {
     if !report.outcome.ranking.orbitals.is_empty() {
         out += &format!("Per model, over all {} spin-orbitals:\n\n", report.outcome.ranking.spin_orbitals);
         out += &totals_table(report, unit).plain("  ");
+    }
+    let inputs = input_lines(&report.outcome.ranking.orbitals);
+    if !inputs.is_empty() {
+        out += "\nBasis-set files (conventions decided from the orbitals' orthonormality):\n";
+        for l in inputs {
+            out += &format!("  {l}\n");
+        }
     }
     if !report.outcome.localization.is_empty() {
         out += "\nFoster–Boys localization (L = Σ|⟨φ|r|φ⟩|², bohr²):\n";
@@ -240,6 +267,13 @@ pub fn render_markdown(report: &Report, unit: EnergyUnit) -> String {
     let mut out = format!("# Self-interaction ranking\n\n{}.\n\n{}", caption(report, unit), markdown_orbitals(report, unit));
     out += "\n## Per model\n\n";
     out += &markdown_totals(report, unit);
+    let inputs = input_lines(&report.outcome.ranking.orbitals);
+    if !inputs.is_empty() {
+        out += "\n## Basis-set files\n\nConventions decided from the orbitals' orthonormality.\n\n";
+        for l in inputs {
+            out += &format!("- {l}\n");
+        }
+    }
     if !report.outcome.localization.is_empty() {
         out += "\n## Foster–Boys localization\n\nL = Σ|⟨φ|r|φ⟩|², bohr².\n\n";
         for l in &report.outcome.localization {

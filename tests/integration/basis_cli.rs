@@ -176,3 +176,30 @@ fn a_workflow_runs_basis_files_and_resumes_them_from_the_cache() {
     let err = stderr(&out);
     assert!(err.contains("uniform_grid must be a spacing") && err.contains("bad.yaml") && err.contains("line 2"), "{err}");
 }
+
+// reference: PySCF 2.14 / libcint, tests/data/basis/natural.json (CISD natural orbitals of
+// water in 6-31G: occupations and J of each unit-normalised orbital density)
+#[test]
+fn natural_orbitals_carry_their_fractional_occupations() {
+    let dir = tempfile::tempdir().unwrap();
+    let molden = data("natural.molden");
+    let report = rank(dir.path(), &[&molden], &["--grid-level", "coarse", "--no-error-bars"]);
+    let reference: Value = serde_json::from_str(&std::fs::read_to_string(data("natural.json")).unwrap()).unwrap();
+    let reference = reference["orbitals"].as_array().unwrap();
+    let ours = orbitals_of(&report, &molden);
+    // Every orbital above the occupied cut (1e-8), each as two spin-orbitals of f/2 electrons.
+    let occupied: Vec<&Value> = reference.iter().filter(|r| number(&r["occupation"]) > 1e-5).collect();
+    assert_eq!(ours.len(), occupied.len(), "{report}");
+    for r in occupied {
+        let label = format!("natural#{}", r["index"]);
+        let o = ours.iter().find(|o| o["label"] == label).unwrap_or_else(|| panic!("{label} missing"));
+        assert_eq!(o["set"], "natural");
+        assert_eq!(o["spin"], "restricted");
+        // The file prints occupations to five decimals.
+        let f = number(&o["occupation"]);
+        assert!((2.0 * f - number(&r["occupation"])).abs() <= 5e-6, "{o}");
+        // J of n_i = f|φ_i|² is f² J[|φ_i|²]: exact integrals on both sides.
+        let want = f * f * number(&r["hartree_self_unit"]);
+        assert!((number(&o["hartree"]) - want).abs() <= 1e-10 * want.max(1e-3), "{label}: {} vs {want}", o["hartree"]);
+    }
+}

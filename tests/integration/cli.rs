@@ -135,14 +135,16 @@ fn formats_units_top_and_output_file() {
         lines[0],
         "rank,source,label,spin,occupation,norm,lost_charge,hartree,hartree_error,optimal_alpha,model,exchange,\
          exchange_error,correlation,correlation_error,self_interaction,self_interaction_error,cancellation,flags,checked,\
-         cusp_hartree,cusp_exchange,cusp_correlation,energy,set,tail_hartree,tail_exchange,tail_correlation"
+         cusp_hartree,cusp_exchange,cusp_correlation,energy,set,tail_hartree,tail_exchange,tail_correlation,\
+         input_format,input_convention,orthonormality"
     );
     // Error bars are there unless switched off; a grid file gives no orbital energy (the field
-    // before the orbital set), and without the tail correction the tail cells are empty.
-    let row = lines[1].strip_suffix(",,canonical,,,").expect("an empty energy field, canonical orbitals, no tail");
+    // before the orbital set), without the tail correction the tail cells are empty, and a grid
+    // file has no basis-set reading to describe.
+    let row = lines[1].strip_suffix(",,canonical,,,,,,").expect("an empty energy field, canonical orbitals, no tail");
     assert!(row.contains(",true,") && !row.contains(",,"), "{}", lines[1]);
     let bare = stdout(&sixray(&["rank", "-f", "csv", "--no-error-bars", "--no-cusp-correction", f], dir.path()));
-    assert!(bare.lines().nth(1).unwrap().ends_with(",false,,,,,canonical,,,"), "{bare}");
+    assert!(bare.lines().nth(1).unwrap().ends_with(",false,,,,,canonical,,,,,,"), "{bare}");
     assert_eq!(lines.len(), 3, "one row per orbital and model: {csv}");
 
     // --top limits the rows, not the totals; --output writes the same text atomically.
@@ -390,13 +392,13 @@ fn tail_correction_is_opt_in_reported_and_added() {
     assert!((x_t - x_p - dx).abs() < 1e-12);
     assert!(t["errors"]["hartree"].as_f64().unwrap() < p["errors"]["hartree"].as_f64().unwrap());
     assert!(t["flags"].as_array().unwrap().iter().any(|f| f == "truncated-box"), "the box still cuts the orbital");
-    // CSV carries the same in its last three columns.
+    // CSV carries the same in its tail columns.
     let csv = stdout(&sixray(&["rank", "-f", "csv", "--tail-correction", f], dir.path()));
     let header: Vec<&str> = csv.lines().next().unwrap().split(',').collect();
     let row: Vec<&str> = csv.lines().nth(1).unwrap().split(',').collect();
     let at = |name: &str| header.iter().position(|h| *h == name).unwrap_or_else(|| panic!("no column {name}"));
     assert!((row[at("tail_hartree")].parse::<f64>().unwrap() - dj).abs() < 1e-15);
-    assert_eq!(at("tail_correlation"), header.len() - 1);
+    assert_eq!(at("tail_correlation"), at("tail_hartree") + 2);
     // Markdown shows the tail's ΔJ beside the cusp's, only when asked for.
     let md = stdout(&sixray(&["rank", "-f", "markdown", "--units", "hartree", "--tail-correction", f], dir.path()));
     assert!(md.contains("| tail ΔJ (Eh) |"), "{md}");

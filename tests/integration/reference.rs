@@ -6,7 +6,7 @@
 //!
 //! Each test states its tolerances. Run with `--nocapture` to print the tables the README records.
 
-use crate::common::shared_dir;
+use crate::common::{first_row_only, shared_dir};
 use sixray::diagnostics::{Engine, EngineParams, Spin};
 use sixray::input::{LoadParams, SpinRule, load_cube};
 use sixray::par::Parallelism;
@@ -107,6 +107,7 @@ fn molecule_dirs(test: &str) -> Option<Vec<std::path::PathBuf>> {
         .expect("reference dir")
         .filter_map(|e| e.ok().map(|e| e.path()))
         .filter(|p| p.join("reference.json").is_file())
+        .filter(|p| first_row_only(test, p))
         .collect();
     dirs.sort();
     assert!(dirs.len() >= 5, "expected the shared molecules, found {dirs:?}");

@@ -3,7 +3,8 @@
 Writes, with PySCF 2.14 (libcint integrals), for a tilted three-atom fragment of our own with
 contracted and uncontracted d, f and g shells:
   * <case>.molden: the basis and three invented orbitals whose coefficients are all of order
-    one (so every component of every shell matters), each normalised with the exact overlap;
+    one (so every component of every shell matters), made orthonormal with the exact overlap
+    (Loewdin), as a program's occupied orbitals are;
   * <case>.json: per orbital its 1-based position (`index`) and the exact Hartree
     self-energy J[n_i] = 1/2 (ii|ii) of n_i = |phi_i|^2 from libcint integrals.
 Cases: `spherical` (5D 7F 9G) and `cartesian` (6D 10F 15G, same basis and orbitals as
@@ -38,7 +39,8 @@ def case(outdir, name, cart):
     sph = gto.M(atom=ATOM, basis=basis(), unit="Angstrom", cart=False, verbose=0)
     c_sph = rng.uniform(-1.0, 1.0, size=(sph.nao, 3))
     c = sph.cart2sph_coeff() @ c_sph if cart else c_sph
-    c = c / np.sqrt(np.einsum("mi,mn,ni->i", c, s, c))
+    w, v = np.linalg.eigh(c.T @ s @ c)
+    c = c @ (v @ np.diag(w ** -0.5) @ v.T)
     orbitals = []
     for i in range(c.shape[1]):
         d = np.outer(c[:, i], c[:, i])
