@@ -114,15 +114,16 @@ fn analyse_file_quietly(
     let path = &job.path;
     let fail = |error: String| FileFailure { source: path.display().to_string(), error };
     let format = sniff_format(path).map_err(|e| fail(format!("{}: {e}", path.display())))?;
+    if !matches!(format, FileFormat::Cube | FileFormat::Molden) {
+        return Err(fail(unsupported(path, &format)));
+    }
     let spin = job.load.spin_for(path);
     // Cache keys need the orbital labels (from the header or the orbital list) and the digest.
     let keys = match cache {
         Some(_) => {
             let labels = match format {
                 FileFormat::Cube => orbital_labels(path, &read_cube_header(path).map_err(|e| fail(e.to_string()))?),
-                FileFormat::Molden => {
-                    occupied_orbitals(path).map_err(|e| fail(e.to_string()))?.into_iter().map(|(label, _)| label).collect()
-                }
+                _ => occupied_orbitals(path).map_err(|e| fail(e.to_string()))?.into_iter().map(|(label, _)| label).collect(),
             };
             let digest = file_digest(path).map_err(|e| fail(format!("{}: {e}", path.display())))?;
             let settings = settings_fingerprint(&job.load, spin, engine.models(), engine.params());
@@ -178,7 +179,7 @@ fn analyse_file_quietly(
         }
         // The exact path treats every orbital of the file in one pass over the integrals, so a
         // partial cache hit still recomputes the file; the hits are kept as they were.
-        FileFormat::Molden => {
+        _ => {
             let computed = analyse_basis_file(path, &job.load.molecular, engine, par).map_err(fail)?;
             cached.resize(computed.len(), None);
             computed
@@ -195,6 +196,17 @@ fn analyse_file_quietly(
         }
     };
     Ok((reports, from_cache))
+}
+
+/// The failure message for a file of a format without an analysis path here (fchk, wfn and
+/// wfx are read by `basis::fchk` and `basis::aim` but not wired in yet) or of no known format.
+fn unsupported(path: &Path, format: &FileFormat) -> String {
+    match format {
+        FileFormat::Unknown { start } => {
+            format!("{}: not a file sixray reads ({}); it starts with {start}", path.display(), FileFormat::READ)
+        }
+        other => format!("{}: {} files are recognised but not analysed yet", path.display(), other.name()),
+    }
 }
 
 /// Every occupied orbital of a Gaussian-basis file: exactly, or through the grid path on a
@@ -305,6 +317,9 @@ pub fn analyse_localized(
                     }
                     Err(e) => failures.push(fail(e)),
                 }
+            }
+            Ok(other @ (FileFormat::Fchk | FileFormat::Wfn | FileFormat::Wfx | FileFormat::Unknown { .. })) => {
+                failures.push(fail(unsupported(path, &other)));
             }
             Ok(FileFormat::Cube) => match load_cube(path, load) {
                 Ok(o) => {

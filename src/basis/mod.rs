@@ -19,15 +19,19 @@
 //! Units: bohr and hartree; positions in Ångström are converted with
 //! [`BOHR_PER_ANGSTROM`](crate::grid::BOHR_PER_ANGSTROM).
 
+pub mod aim;
 pub mod angular;
 pub mod boys;
 pub mod coulomb;
 mod eval;
+pub mod fchk;
 pub(crate) mod hermite;
 mod orbitals;
 mod overlap;
 #[cfg(test)]
 mod tests;
+#[cfg(test)]
+mod wavefunction_tests;
 
 use std::fmt;
 use std::path::{Path, PathBuf};
