@@ -184,3 +184,32 @@ fn broken_wfx_is_refused_with_its_line() {
     assert!(e.contains("h2o_error.wfx:7:"), "{e}");
     assert!(e.contains("</Number of Nuclei>") && e.contains("line 4"), "{e}");
 }
+
+/// The molden files of the real-world set against PySCF 2.14's reading of them.
+#[test]
+fn molden_files_match_pyscf() {
+    let Some(dir) = real_world("molden_files_match_pyscf") else { return };
+    // reference: PySCF 2.14 (molden.load, libcint J) via tools/real_world_reference.py,
+    // tests/data/real_world_j.json.
+    let json: serde_json::Value = serde_json::from_str(include_str!("../../tests/data/real_world_j.json")).expect("json");
+    let files = json["files"].as_object().expect("files");
+    for (name, rows) in files {
+        let rows = rows.as_array().expect("rows");
+        let (basis, orbitals) = super::read(&dir.join(name)).unwrap_or_else(|e| panic!("{e}"));
+        let occupied: Vec<_> = orbitals.occupied().collect();
+        let j = occupied_j(&basis, &orbitals);
+        assert_eq!(occupied.len(), rows.len(), "{name}");
+        for (k, (o, row)) in occupied.iter().zip(rows).enumerate() {
+            let reference = row["j"].as_f64().expect("j");
+            let rel = (j[k] - reference).abs() / reference;
+            eprintln!("{name} {}: {} J {:.10} PySCF {reference:.10} relative {rel:.1e}", k + 1, o.spin.name(), j[k]);
+            // The same orbital in both readings (energy as written, spin channel).
+            assert_eq!(o.energy, row["energy"].as_f64(), "{name} {}", k + 1);
+            let spin = row["spin"].as_str().expect("spin");
+            assert_eq!(o.spin.name(), spin, "{name} {}", k + 1);
+            // Both programs' integrals are exact up to screening (sixray: below 1e-9 Eh,
+            // coulomb::CoulombParams); 1e-9 relative also covers PySCF's direct-SCF cut-offs.
+            assert!(rel < 1e-9, "{name} {}: {} vs {reference}", k + 1, j[k]);
+        }
+    }
+}
