@@ -270,7 +270,7 @@ impl<'a> Reader<'a> {
 
     /// The number after an `=` that follows position `from` (blanks allowed around it).
     fn value_after(&self, no: usize, line: &[u8], from: usize, what: &str) -> Result<f64, WfnError> {
-        let rest = line[from..].trim_ascii_start();
+        let rest = line.get(from..).unwrap_or_default().trim_ascii_start();
         let Some(rest) = rest.strip_prefix(b"=") else {
             return Err(self.syntax(no, format!("= before {what}"), excerpt(rest)));
         };
@@ -326,7 +326,7 @@ impl<'a> Reader<'a> {
             return None;
         }
         let body = line.get(ASSIGNMENT_KEYWORD..)?;
-        let body = &body[..body.len() - (body.len() - body.trim_ascii_end().len())];
+        let body = body.trim_ascii_end();
         if body.is_empty() || body.len() % ASSIGNMENT_WIDTH != 0 {
             return None;
         }

@@ -488,6 +488,25 @@ impl BasisSet {
     }
 }
 
+/// Reads any file with its own Gaussian basis (molden, fchk, wfn or wfx, told apart by content,
+/// plain or gzip) and builds its basis set and orbitals; the provenance of fchk, wfn and wfx
+/// files (core potentials, nuclear charges) comes along, molden files give `None`.
+pub fn read_any(path: &Path) -> Result<(BasisSet, MolecularOrbitals, Option<fchk::Provenance>), BasisError> {
+    use sixray_parsers::{FileFormat, sniff_format};
+    let with = |r: Result<(BasisSet, MolecularOrbitals, fchk::Provenance), BasisError>| r.map(|(b, o, p)| (b, o, Some(p)));
+    match sniff_format(path).map_err(|e| BasisError::at(path, None, format!("read failed: {e}")))? {
+        FileFormat::Molden => read(path).map(|(b, o)| (b, o, None)),
+        FileFormat::Fchk => with(fchk::read(path)),
+        FileFormat::Wfn => with(aim::read_wfn_file(path)),
+        FileFormat::Wfx => with(aim::read_wfx_file(path)),
+        other => Err(BasisError::at(
+            path,
+            None,
+            format!("expected a molden, fchk, wfn or wfx file, found a {} file", other.name()),
+        )),
+    }
+}
+
 /// Reads a molden file (plain or gzip) and builds its basis set and orbitals.
 pub fn read(path: &Path) -> Result<(BasisSet, MolecularOrbitals), BasisError> {
     let file = read_molden(path)?;

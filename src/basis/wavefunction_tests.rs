@@ -29,7 +29,11 @@ fn load(path: &Path) -> (BasisSet, MolecularOrbitals, Provenance) {
         FileFormat::Wfx => aim::read_wfx_file(path),
         other => panic!("{}: not an orbital file: {other:?}", path.display()),
     };
-    read.unwrap_or_else(|e| panic!("{e}"))
+    let (basis, orbitals, provenance) = read.unwrap_or_else(|e| panic!("{e}"));
+    // The dispatching reader gives the same.
+    let (b, o, p) = super::read_any(path).unwrap_or_else(|e| panic!("{e}"));
+    assert_eq!((&b, &o, p.as_ref()), (&basis, &orbitals, Some(&provenance)));
+    (basis, orbitals, provenance)
 }
 
 /// Exact J of each occupied orbital (of |φ|², occupation aside), in file order.
@@ -98,7 +102,6 @@ fn water_fchk_and_wfn_agree() {
 #[test]
 #[ignore = "needs l = 5 (h) support"]
 fn helium_spdfgh_fchk_and_wfn_agree() {
-    assert!(MAX_L >= 5, "MAX_L is {MAX_L}");
     fchk_and_wfn_agree("he_spdfgh_orbital.fchk", "he_spdfgh_orbital.wfn", "helium_spdfgh_fchk_and_wfn_agree");
 }
 
@@ -212,4 +215,11 @@ fn molden_files_match_pyscf() {
             assert!(rel < 1e-9, "{name} {}: {} vs {reference}", k + 1, j[k]);
         }
     }
+}
+
+#[test]
+fn other_files_are_refused_by_name() {
+    let Some(dir) = real_world("other_files_are_refused_by_name") else { return };
+    let e = super::read_any(&dir.join("cubegen_h2o_5points.cube")).expect_err("a grid").to_string();
+    assert!(e.contains("cubegen_h2o_5points.cube: expected a molden, fchk, wfn or wfx file, found a cube file"), "{e}");
 }

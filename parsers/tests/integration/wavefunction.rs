@@ -211,6 +211,9 @@ fn wfn_errors_name_the_line() {
     let e = wfn(WFN_SEED.replace("  0.12345678D+01\nEND", "END").as_bytes()).expect_err("short orbital");
     assert_eq!(e.line, Some(12), "{e}");
     assert!(e.to_string().contains("1 more coefficients of orbital 3"), "{e}");
+    // Keywords that overlap ("OCC NORB. ENERGY") are an error, not a slice out of order.
+    let e = wfn(WFN_SEED.replace("OCC NO =    1.0000000  ORB.", "OCC NORB.").as_bytes()).expect_err("overlap");
+    assert_eq!(e.line, Some(8), "{e}");
     let e = wfn(WFN_SEED.replace("2 NUCLEI", "999999 NUCLEI").as_bytes()).expect_err("absurd count");
     assert!(matches!(e.kind, TextErrorKind::BadCount { value: 999_999, .. }), "{e}");
     let e = wfn(WFN_SEED.replace("TYPE ASSIGNMENTS      1  4  1", "TYPE ASSIGNMENTS      1  x  1").as_bytes())
