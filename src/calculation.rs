@@ -114,8 +114,8 @@ fn analyse_file_quietly(
     let path = &job.path;
     let fail = |error: String| FileFailure { source: path.display().to_string(), error };
     let format = sniff_format(path).map_err(|e| fail(format!("{}: {e}", path.display())))?;
-    if !matches!(format, FileFormat::Cube | FileFormat::Molden) {
-        return Err(fail(unsupported(path, &format)));
+    if let FileFormat::Unknown { start } = &format {
+        return Err(fail(unknown_format(path, start)));
     }
     let spin = job.load.spin_for(path);
     // Cache keys need the orbital labels (from the header or the orbital list) and the digest.
@@ -198,15 +198,9 @@ fn analyse_file_quietly(
     Ok((reports, from_cache))
 }
 
-/// The failure message for a file of a format without an analysis path here (fchk, wfn and
-/// wfx are read by `basis::fchk` and `basis::aim` but not wired in yet) or of no known format.
-fn unsupported(path: &Path, format: &FileFormat) -> String {
-    match format {
-        FileFormat::Unknown { start } => {
-            format!("{}: not a file sixray reads ({}); it starts with {start}", path.display(), FileFormat::READ)
-        }
-        other => format!("{}: {} files are recognised but not analysed yet", path.display(), other.name()),
-    }
+/// The failure message for a file of no known format; `start` describes its first line.
+fn unknown_format(path: &Path, start: &str) -> String {
+    format!("{}: not a file sixray reads ({}); it starts with {start}", path.display(), FileFormat::READ)
 }
 
 /// Every occupied orbital of a Gaussian-basis file: exactly, or through the grid path on a
@@ -250,7 +244,9 @@ pub fn run_files(
 pub fn count_orbitals(jobs: &[FileJob]) -> usize {
     jobs.iter()
         .map(|j| match sniff_format(&j.path) {
-            Ok(FileFormat::Molden) => occupied_orbitals(&j.path).map_or(1, |o| o.len()),
+            Ok(FileFormat::Molden | FileFormat::Fchk | FileFormat::Wfn | FileFormat::Wfx) => {
+                occupied_orbitals(&j.path).map_or(1, |o| o.len())
+            }
             _ => read_cube_header(&j.path).map_or(1, |h| h.values_per_point),
         })
         .sum()
@@ -302,7 +298,7 @@ pub fn analyse_localized(
                 failures.push(fail(format!("{}: {e}", path.display())));
                 grid_complete = false;
             }
-            Ok(FileFormat::Molden) => {
+            Ok(FileFormat::Molden | FileFormat::Fchk | FileFormat::Wfn | FileFormat::Wfx) => {
                 let source = path.display().to_string();
                 let result = match load.molecular.uniform_spacing {
                     None => analyse_molden_localized(path, engine, &load.molecular, localize, par).map_err(|e| e.to_string()),
@@ -318,8 +314,8 @@ pub fn analyse_localized(
                     Err(e) => failures.push(fail(e)),
                 }
             }
-            Ok(other @ (FileFormat::Fchk | FileFormat::Wfn | FileFormat::Wfx | FileFormat::Unknown { .. })) => {
-                failures.push(fail(unsupported(path, &other)));
+            Ok(FileFormat::Unknown { start }) => {
+                failures.push(fail(unknown_format(path, &start)));
             }
             Ok(FileFormat::Cube) => match load_cube(path, load) {
                 Ok(o) => {
