@@ -106,7 +106,7 @@ fn helium_spdfgh_fchk_and_wfn_agree() {
 }
 
 /// Every real-world orbital file the engine can represent (all but the h-function pair).
-const READABLE: [&str; 12] = [
+const READABLE: [&str; 13] = [
     "h2o_sto3g.fchk",
     "ch3_rohf_sto3g_g03.fchk",
     "li_h_3-21G_hf_g09.fchk",
@@ -119,6 +119,7 @@ const READABLE: [&str; 12] = [
     "lih_cation_rohf.wfx",
     "lih_cation_uhf.wfx",
     "he_spdfgh_orbital.wfn",
+    "he_spdfgh_orbital.fchk",
 ];
 
 #[test]
@@ -222,4 +223,47 @@ fn other_files_are_refused_by_name() {
     let Some(dir) = real_world("other_files_are_refused_by_name") else { return };
     let e = super::read_any(&dir.join("cubegen_h2o_5points.cube")).expect_err("a grid").to_string();
     assert!(e.contains("cubegen_h2o_5points.cube: expected a molden, fchk, wfn or wfx file, found a cube file"), "{e}");
+}
+
+/// Gaussian's Cartesian orders and normalisation for d to h, without the engine (which may not
+/// take l = 5 yet): each function of the Cartesian shells of `he_spdfgh_orbital.fchk`, turned
+/// into plain-primitive coefficients with `fchk`'s rows and normalisation, against the same
+/// orbital's coefficients in `he_spdfgh_orbital.wfn` (AIMPAC types, plain primitives). The
+/// orbital has only s, d and g parts; the f and h orders are checked through the positions.
+#[test]
+fn helium_spdfgh_conventions_match_the_wfn() {
+    let Some(dir) = real_world("helium_spdfgh_conventions_match_the_wfn") else { return };
+    let f = sixray_parsers::read_fchk(&dir.join("he_spdfgh_orbital.fchk")).unwrap_or_else(|e| panic!("{e}"));
+    let w = sixray_parsers::read_wfn(&dir.join("he_spdfgh_orbital.wfn")).unwrap_or_else(|e| panic!("{e}"));
+    let types = f.ints("Shell types").unwrap().expect("shell types").0;
+    let exps = f.reals("Primitive exponents").unwrap().expect("exponents").0;
+    let coefs = f.reals("Contraction coefficients").unwrap().expect("coefficients").0;
+    let mo = f.reals("Alpha MO coefficients").unwrap().expect("orbitals").0;
+    // reference: the file: six single-primitive Cartesian shells, l = 0 to 5.
+    assert_eq!(types, [0, 1, 2, 3, 4, 5]);
+    let mut first = 0;
+    let mut compared = 0;
+    for (l, (&a, &d)) in (0u32..).zip(exps.iter().zip(coefs)) {
+        let n = super::primitive_norm(l, a) * d;
+        let raw = n / super::contraction_norm2(l, &[a], &[n]).sqrt();
+        let order = fchk::gaussian_cartesian_order(l);
+        let rows = fchk::cartesian_rows(l, &order);
+        let nc = super::angular::cartesian_count(l);
+        for (j, e) in order.iter().enumerate() {
+            let ours = mo[first + j] * rows[j * nc + super::angular::cartesian_index(*e)] * raw;
+            let p = (0..w.types.len())
+                .find(|&p| aim::aimpac_type(w.types[p]) == Some(*e) && w.exponents[p] == a)
+                .unwrap_or_else(|| panic!("no primitive {e:?} with exponent {a}"));
+            // Gaussian writes the wfn's primitives in its own function order (the file lists
+            // f as types 11 12 13 17 14 15 18 19 16 20): the order is checked by position too.
+            assert_eq!(p, first + j, "l = {l}, {e:?}");
+            let theirs = w.orbitals[0].coefficients[p];
+            // The wfn prints eight digits; 1e-6 relative (and 1e-12 for zeros) leaves room.
+            assert!((ours - theirs).abs() <= 1e-6 * theirs.abs() + 1e-12, "l = {l}, {e:?}: {ours} vs {theirs}");
+            compared += usize::from(theirs != 0.0);
+        }
+        first += order.len();
+    }
+    // The orbital is s + d + g (r², r⁴): its zero and non-zero components both checked.
+    assert!(compared >= 10, "{compared}");
 }
