@@ -28,8 +28,9 @@
 //!   after; any other file is restricted.
 //!
 //! Atomic numbers: wfx files write them; for wfn files they come from the element symbol of
-//! the label, or the nuclear charge rounded when the label is no symbol. Nuclear charges that
-//! differ from the atomic numbers mean effective core potentials ([`Provenance::ecp`]).
+//! the label, or the nuclear charge rounded when the label is no symbol. Nuclear charges between
+//! 0 and the atomic number mean effective core potentials ([`Provenance::ecp`]; ghost atoms
+//! carry 0).
 
 use std::path::Path;
 
@@ -186,7 +187,7 @@ fn build(p: Primitives<'_>, raw: Vec<RawOrbital<'_>>, restricted: bool) -> Resul
             line: o.line,
         });
     }
-    let ecp = p.atoms.iter().zip(&p.charges).any(|(a, &q)| (f64::from(a.atomic_number) - q).abs() > 1e-6);
+    let ecp = p.atoms.iter().zip(&p.charges).any(|(a, &q)| super::fchk::valence_charge(f64::from(a.atomic_number), q));
     let provenance = Provenance { ecp, nuclear_charges: p.charges, multiplicity: None, natural_orbitals: false };
     Ok((basis, MolecularOrbitals { orbitals, restricted }, provenance))
 }

@@ -27,8 +27,8 @@
 //! - a real array whose name contains "natural" and "occup" (any case) with one value per
 //!   orbital replaces these occupations (natural orbitals).
 //!
-//! Effective core potentials: with `ECP-` sections, or nuclear charges that differ from the
-//! atomic numbers, the file describes valence electrons only; [`Provenance::ecp`] says so and
+//! Effective core potentials: with `ECP-` sections, or nuclear charges between 0 and the atomic
+//! number (ghost atoms carry 0), the file describes valence electrons only; [`Provenance::ecp`] says so and
 //! [`Provenance::nuclear_charges`] holds the charges as written (valence charges).
 
 use std::path::Path;
@@ -165,7 +165,7 @@ pub fn from_fchk(f: &FchkFile) -> Result<(BasisSet, MolecularOrbitals, Provenanc
         let position = [coords[3 * k], coords[3 * k + 1], coords[3 * k + 2]];
         atoms.push(Atom { label: crate::inspect::symbol(z as i32).to_string(), atomic_number: z, position });
     }
-    let ecp = f.has_ecp_sections() || numbers.iter().zip(&nuclear_charges).any(|(&z, &q)| (z as f64 - q).abs() > 1e-6);
+    let ecp = f.has_ecp_sections() || numbers.iter().zip(&nuclear_charges).any(|(&z, &q)| valence_charge(z as f64, q));
 
     // Shells.
     let (types, types_line) = ints("Shell types")?;
@@ -304,6 +304,12 @@ pub fn from_fchk(f: &FchkFile) -> Result<(BasisSet, MolecularOrbitals, Provenanc
     }
     let provenance = Provenance { ecp, nuclear_charges, multiplicity: f.int("Multiplicity")?, natural_orbitals };
     Ok((basis, MolecularOrbitals { orbitals, restricted }, provenance))
+}
+
+/// Whether nuclear charge `q` of an atom with atomic number `z` is a valence charge: above 0
+/// (ghost atoms carry 0) and below z.
+pub(crate) fn valence_charge(z: f64, q: f64) -> bool {
+    q > 1e-6 && q < z - 1e-6
 }
 
 /// One electron in each of the first `n` of `count` spin-orbitals.
