@@ -114,15 +114,16 @@ fn analyse_file_quietly(
     let path = &job.path;
     let fail = |error: String| FileFailure { source: path.display().to_string(), error };
     let format = sniff_format(path).map_err(|e| fail(format!("{}: {e}", path.display())))?;
+    if let FileFormat::Unknown { start } = &format {
+        return Err(fail(unknown_format(path, start)));
+    }
     let spin = job.load.spin_for(path);
     // Cache keys need the orbital labels (from the header or the orbital list) and the digest.
     let keys = match cache {
         Some(_) => {
             let labels = match format {
                 FileFormat::Cube => orbital_labels(path, &read_cube_header(path).map_err(|e| fail(e.to_string()))?),
-                FileFormat::Molden => {
-                    occupied_orbitals(path).map_err(|e| fail(e.to_string()))?.into_iter().map(|(label, _)| label).collect()
-                }
+                _ => occupied_orbitals(path).map_err(|e| fail(e.to_string()))?.into_iter().map(|(label, _)| label).collect(),
             };
             let digest = file_digest(path).map_err(|e| fail(format!("{}: {e}", path.display())))?;
             let settings = settings_fingerprint(&job.load, spin, engine.models(), engine.params());
@@ -178,7 +179,7 @@ fn analyse_file_quietly(
         }
         // The exact path treats every orbital of the file in one pass over the integrals, so a
         // partial cache hit still recomputes the file; the hits are kept as they were.
-        FileFormat::Molden => {
+        _ => {
             let computed = analyse_basis_file(path, &job.load.molecular, engine, par).map_err(fail)?;
             cached.resize(computed.len(), None);
             computed
@@ -195,6 +196,11 @@ fn analyse_file_quietly(
         }
     };
     Ok((reports, from_cache))
+}
+
+/// The failure message for a file of no known format; `start` describes its first line.
+fn unknown_format(path: &Path, start: &str) -> String {
+    format!("{}: not a file sixray reads ({}); it starts with {start}", path.display(), FileFormat::READ)
 }
 
 /// Every occupied orbital of a Gaussian-basis file: exactly, or through the grid path on a
@@ -238,7 +244,9 @@ pub fn run_files(
 pub fn count_orbitals(jobs: &[FileJob]) -> usize {
     jobs.iter()
         .map(|j| match sniff_format(&j.path) {
-            Ok(FileFormat::Molden) => occupied_orbitals(&j.path).map_or(1, |o| o.len()),
+            Ok(FileFormat::Molden | FileFormat::Fchk | FileFormat::Wfn | FileFormat::Wfx) => {
+                occupied_orbitals(&j.path).map_or(1, |o| o.len())
+            }
             _ => read_cube_header(&j.path).map_or(1, |h| h.values_per_point),
         })
         .sum()
@@ -290,7 +298,7 @@ pub fn analyse_localized(
                 failures.push(fail(format!("{}: {e}", path.display())));
                 grid_complete = false;
             }
-            Ok(FileFormat::Molden) => {
+            Ok(FileFormat::Molden | FileFormat::Fchk | FileFormat::Wfn | FileFormat::Wfx) => {
                 let source = path.display().to_string();
                 let result = match load.molecular.uniform_spacing {
                     None => analyse_molden_localized(path, engine, &load.molecular, localize, par).map_err(|e| e.to_string()),
@@ -305,6 +313,9 @@ pub fn analyse_localized(
                     }
                     Err(e) => failures.push(fail(e)),
                 }
+            }
+            Ok(FileFormat::Unknown { start }) => {
+                failures.push(fail(unknown_format(path, &start)));
             }
             Ok(FileFormat::Cube) => match load_cube(path, load) {
                 Ok(o) => {

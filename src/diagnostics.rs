@@ -199,6 +199,10 @@ pub struct InputCheck {
     pub orthonormality: f64,
     /// The largest deviation accepted for this file (1e-6, or what its printed digits allow).
     pub tolerance: f64,
+    /// Whether effective core potentials replace the core electrons: the orbitals are the
+    /// valence orbitals only (fchk, wfn, wfx files that say so).
+    #[serde(default)]
+    pub core_potentials: bool,
 }
 
 /// Canonical orbitals (as the program wrote them) or localized ones formed from them.

@@ -1,4 +1,4 @@
-//! Self-interaction diagnostics of Gaussian-basis orbitals (molden files).
+//! Self-interaction diagnostics of Gaussian-basis orbitals (molden, fchk, wfn and wfx files).
 //!
 //! For each occupied spin-orbital φ_i with f_i electrons:
 //!
@@ -61,10 +61,16 @@ impl Default for MolecularParams {
     }
 }
 
+/// Basis set and orbitals of any basis-set file (molden, fchk, wfn, wfx). Files with effective
+/// core potentials give their valence orbitals, which are analysed like any others.
+fn basis_file(path: &Path) -> Result<(BasisSet, MolecularOrbitals), BasisError> {
+    crate::basis::read_any(path).map(|(basis, orbitals, _)| (basis, orbitals))
+}
+
 /// Label and orbital energy (hartree, where the file gives one) of each occupied spin-orbital
 /// report a molden file yields, in report order; cheap (no integrals).
 pub fn occupied_orbitals(path: &Path) -> Result<Vec<(String, Option<f64>)>, BasisError> {
-    let (_, orbitals) = crate::basis::read(path)?;
+    let (_, orbitals) = basis_file(path)?;
     Ok(occupied(&orbitals, &crate::input::stem(path)).into_iter().map(|o| (o.label, o.energy)).collect())
 }
 
@@ -154,7 +160,7 @@ fn grid_integrals(
 /// Analyses every occupied orbital of a molden file with the engine's models (its Coulomb and
 /// cusp settings do not apply: J is exact).
 pub fn analyse_molden(path: &Path, engine: &Engine, params: &MolecularParams, par: Parallelism) -> Result<Vec<OrbitalReport>, BasisError> {
-    let (basis, orbitals, convention) = crate::basis::read_checked(path)?;
+    let (basis, orbitals, convention) = crate::basis::read_any(path)?;
     let occupied = occupied(&orbitals, &crate::input::stem(path));
     let mut reports = analyse_occupied(path, &basis, &occupied, &convention, engine, params, par);
     if orbitals.natural {
@@ -171,6 +177,7 @@ fn input_check(c: &BasisConvention) -> InputCheck {
         convention: c.convention.clone(),
         orthonormality: c.check.max_deviation,
         tolerance: c.check.tolerance(),
+        core_potentials: c.provenance.as_ref().is_some_and(|p| p.ecp),
     }
 }
 
@@ -185,7 +192,7 @@ pub fn analyse_molden_localized(
     localize: &LocalizeParams,
     par: Parallelism,
 ) -> Result<(Vec<OrbitalReport>, Vec<ChannelLocalization>), BasisError> {
-    let (basis, orbitals, convention) = crate::basis::read_checked(path)?;
+    let (basis, orbitals, convention) = crate::basis::read_any(path)?;
     let stem = crate::input::stem(path);
     let canonical = occupied(&orbitals, &stem);
     let dipoles = basis.dipole_matrices();
@@ -339,7 +346,7 @@ pub fn sample_molden(path: &Path, spacing: f64, margin: f64, par: Parallelism) -
             message: format!("a uniform grid needs a spacing of at least {MIN_UNIFORM_SPACING} bohr and a non-negative margin, got {spacing} and {margin}"),
         });
     }
-    let (basis, orbitals) = crate::basis::read(path)?;
+    let (basis, orbitals) = basis_file(path)?;
     let stem = crate::input::stem(path);
     let occupied = occupied(&orbitals, &stem);
     let (mut lo, mut hi) = ([f64::INFINITY; 3], [f64::NEG_INFINITY; 3]);

@@ -1,4 +1,5 @@
-//! Readers that turn quantum-chemistry output files into plain data.
+//! Readers that turn quantum-chemistry output files into plain data: cube grids, molden files,
+//! Gaussian formatted checkpoints (fchk) and AIM wavefunction files (wfn, wfx).
 //!
 //! This crate knows no physics: it reports numbers and units exactly as written and leaves
 //! every conversion and interpretation to its callers. Errors name the file and the line.
@@ -17,16 +18,24 @@
 #![warn(missing_docs)]
 
 pub mod cube;
+pub mod fchk;
 mod fields;
 pub mod format;
 pub mod molden;
+pub mod text;
+pub mod wfn;
+pub mod wfx;
 
 pub use cube::{
     CubeAtom, CubeAxis, CubeError, CubeErrorKind, CubeFile, CubeHeader, LengthUnit, ReadParams,
     parse_cube, parse_cube_header, read_cube, read_cube_header,
 };
+pub use fchk::{FchkError, FchkFile, FchkSection, FchkValue, parse_fchk, read_fchk};
 pub use format::{FileFormat, sniff_format};
 pub use molden::{
     MoldenAtom, MoldenBasisAtom, MoldenError, MoldenErrorKind, MoldenFile, MoldenFlag,
     MoldenOrbital, MoldenPrimitive, MoldenShell, MoldenSpin, ShellType, parse_molden, read_molden,
 };
+pub use text::TextErrorKind;
+pub use wfn::{WfnError, WfnFile, WfnNucleus, WfnOrbital, parse_wfn, read_wfn};
+pub use wfx::{WfxError, WfxFile, WfxOrbital, WfxSpin, parse_wfx, read_wfx};

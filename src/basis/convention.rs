@@ -26,9 +26,11 @@
 //! orbital to unit norm would hide a wrong basis, so it is never done.
 
 use std::fmt;
+use std::path::Path;
 
 use sixray_parsers::molden::MoldenFile;
 
+use super::fchk::Provenance;
 use super::orbitals::{MolecularOrbitals, OrbitalSpin};
 use super::{BasisError, BasisSet};
 
@@ -157,6 +159,44 @@ pub struct BasisConvention {
     /// Other conventions that fitted as well (the file could not tell them apart, so the
     /// hinted or the format's own was taken).
     pub indistinguishable: usize,
+    /// What fchk, wfn and wfx files tell beyond the basis (core potentials, nuclear charges);
+    /// `None` for molden files.
+    pub provenance: Option<Provenance>,
+}
+
+/// The fixed conventions of the formats that define theirs, as reported.
+fn fixed_convention(format: &str) -> &'static str {
+    match format {
+        "fchk" => "gaussian-component-orders",
+        _ => "aimpac-cartesian-primitives",
+    }
+}
+
+/// The orbitals of an fchk, wfn or wfx file checked like a molden file's: their format defines
+/// its conventions, so there is only one reading to test, and a file whose occupied orbitals are
+/// not orthonormal under it is refused.
+pub fn checked(
+    path: &Path,
+    format: &'static str,
+    basis: BasisSet,
+    orbitals: MolecularOrbitals,
+    provenance: Provenance,
+) -> Result<(BasisSet, MolecularOrbitals, BasisConvention), BasisError> {
+    let check = orthonormality(&basis, &orbitals, &[]);
+    if !check.holds() {
+        return Err(BasisError::at(
+            path,
+            None,
+            format!(
+                "expected orthonormal occupied orbitals (max |CᵀSC − I| ≤ {:.0e}), found {:.2e}: the basis or the \
+                 coefficients are not what the file's writer used",
+                check.tolerance(),
+                check.max_deviation
+            ),
+        ));
+    }
+    let convention = fixed_convention(format).to_string();
+    Ok((basis, orbitals, BasisConvention { format, writer: None, convention, check, indistinguishable: 0, provenance: Some(provenance) }))
 }
 
 /// Orthonormality of `orbitals` over `basis`: the occupied orbitals of each spin channel
@@ -305,7 +345,7 @@ pub fn detect(m: &MoldenFile) -> Result<(BasisSet, MolecularOrbitals, BasisConve
     let Some((c, basis, orbitals, check)) = tied.into_iter().next() else {
         return Err(BasisError::at(&m.source, None, "no molden convention could be decided"));
     };
-    Ok((basis, orbitals, BasisConvention { format: "molden", writer, convention: c.name(), check, indistinguishable }))
+    Ok((basis, orbitals, BasisConvention { format: "molden", writer, convention: c.name(), check, indistinguishable, provenance: None }))
 }
 
 #[cfg(test)]

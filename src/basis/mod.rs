@@ -19,16 +19,20 @@
 //! Units: bohr and hartree; positions in Ångström are converted with
 //! [`BOHR_PER_ANGSTROM`](crate::grid::BOHR_PER_ANGSTROM).
 
+pub mod aim;
 pub mod angular;
 pub mod boys;
 pub mod convention;
 pub mod coulomb;
 mod eval;
+pub mod fchk;
 pub(crate) mod hermite;
 mod orbitals;
 mod overlap;
 #[cfg(test)]
 mod tests;
+#[cfg(test)]
+mod wavefunction_tests;
 
 use std::fmt;
 use std::path::{Path, PathBuf};
@@ -551,6 +555,31 @@ impl BasisSet {
     }
 }
 
+/// Reads any file with its own Gaussian basis (molden, fchk, wfn or wfx, told apart by content,
+/// plain or gzip) and builds its basis set and orbitals, with how the file was read and the
+/// evidence: the occupied orbitals must be orthonormal over the basis as read (see
+/// [`convention`]; molden files are tried under every convention that could matter), or the
+/// file is refused.
+pub fn read_any(path: &Path) -> Result<(BasisSet, MolecularOrbitals, BasisConvention), BasisError> {
+    use sixray_parsers::{FileFormat, sniff_format};
+    let format = sniff_format(path).map_err(|e| BasisError::at(path, None, format!("read failed: {e}")))?;
+    let (name, read) = match format {
+        FileFormat::Molden => return read_checked(path),
+        FileFormat::Fchk => ("fchk", fchk::read(path)?),
+        FileFormat::Wfn => ("wfn", aim::read_wfn_file(path)?),
+        FileFormat::Wfx => ("wfx", aim::read_wfx_file(path)?),
+        other => {
+            return Err(BasisError::at(
+                path,
+                None,
+                format!("expected a molden, fchk, wfn or wfx file, found a {} file", other.name()),
+            ));
+        }
+    };
+    let (basis, orbitals, provenance) = read;
+    convention::checked(path, name, basis, orbitals, provenance)
+}
+
 /// Reads a molden file (plain or gzip) and builds its basis set and orbitals.
 /// The convention is decided from the orbitals' orthonormality ([`convention`]); files no
 /// convention fits are refused.
@@ -558,7 +587,8 @@ pub fn read(path: &Path) -> Result<(BasisSet, MolecularOrbitals), BasisError> {
     read_checked(path).map(|(b, o, _)| (b, o))
 }
 
-/// [`read`], with the convention used and its evidence.
+/// [`read`], with the convention used and its evidence (molden files only; [`read_any`] reads
+/// every format).
 pub fn read_checked(path: &Path) -> Result<(BasisSet, MolecularOrbitals, BasisConvention), BasisError> {
     let file = read_molden(path)?;
     convention::detect(&file)

@@ -13,7 +13,8 @@
 //!                  "tail_correction": {"lost_charge", "hartree", "models": {MODEL:
 //!                  {"exchange", "correlation"}}} or null,
 //!                  "input": {"format", "writer", "convention", "orthonormality",
-//!                  "tolerance"} or null (basis-set files: how they were read)} ],
+//!                  "tolerance", "core_potentials"} or null (basis-set files: how they were
+//!                  read)} ],
 //!                  // worst first; corrections: corrected − plain
 //!   "totals": {MODEL: {"perdew_zunger", "mean_cancellation"}}, "spin_orbitals": N,
 //!   "failures": [{"source", "error"}],
@@ -94,6 +95,7 @@ pub fn orbitals(report: &Report) -> Vec<Value> {
                     "convention": c.convention,
                     "orthonormality": c.orthonormality,
                     "tolerance": c.tolerance,
+                    "core_potentials": c.core_potentials,
                 })),
             })
         })

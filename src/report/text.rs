@@ -167,8 +167,9 @@ pub fn input_lines(orbitals: &[OrbitalReport]) -> Vec<String> {
         }
         seen.push(&o.source);
         let writer = c.writer.as_ref().map_or(String::new(), |w| format!(" (writer {w})"));
+        let valence = if c.core_potentials { "; valence orbitals only (effective core potentials)" } else { "" };
         out.push(format!(
-            "{}: {}{writer}, read as {}, max |CᵀSC − I| = {:.1e}",
+            "{}: {}{writer}, read as {}, max |CᵀSC − I| = {:.1e}{valence}",
             o.source, c.format, c.convention, c.orthonormality
         ));
     }

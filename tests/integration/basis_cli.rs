@@ -203,3 +203,24 @@ fn natural_orbitals_carry_their_fractional_occupations() {
         assert!((number(&o["hartree"]) - want).abs() <= 1e-10 * want.max(1e-3), "{label}: {} vs {want}", o["hartree"]);
     }
 }
+
+/// The same water calculation as fchk and wfn, and an open-shell fchk, through `rank`; the
+/// real files of ../shared/real-world (skipped with a notice when absent).
+#[test]
+fn rank_reads_fchk_and_wfn_files() {
+    let Some(shared) = crate::common::shared_dir("rank_reads_fchk_and_wfn_files") else { return };
+    let dir = tempfile::tempdir().unwrap();
+    let real = shared.join("real-world");
+    let (fchk, wfn, rohf) = (real.join("h2o_sto3g.fchk"), real.join("h2o_sto3g.wfn"), real.join("ch3_rohf_sto3g_g03.fchk"));
+    let report = rank(dir.path(), &[&fchk, &wfn, &rohf], &["--grid-level", "coarse"]);
+    let (a, b) = (orbitals_of(&report, &fchk), orbitals_of(&report, &wfn));
+    assert_eq!((a.len(), b.len()), (5, 5));
+    for (x, y) in a.iter().zip(&b) {
+        // The wfn prints exponents to seven digits: J to 5e-7 relative (see
+        // basis::wavefunction_tests::fchk_and_wfn_agree for the reason).
+        let (jx, jy) = (number(&x["hartree"]), number(&y["hartree"]));
+        assert!((jx - jy).abs() < 5e-7 * jx, "{x} {y}");
+    }
+    // reference: the file's header: 5 α and 4 β electrons, restricted open shell.
+    assert_eq!(orbitals_of(&report, &rohf).len(), 5);
+}

@@ -232,6 +232,25 @@ fn a_bad_file_is_reported_and_the_good_ones_still_ranked() {
 }
 
 #[test]
+fn files_of_no_known_format_are_named_with_the_formats_read() {
+    let dir = tempfile::tempdir().unwrap();
+    let p = dir.path();
+    std::fs::write(p.join("notes.cube"), "hello world\nnothing numeric here\n").unwrap();
+    let fchk = "water\nSP        RHF                                                         STO-3G\n\
+                Number of atoms                            I                3\n";
+    std::fs::write(p.join("water.fchk"), fchk).unwrap();
+    let out = sixray(&["rank", "-f", "json", "notes.cube", "water.fchk"], p);
+    assert_eq!(out.status.code(), Some(2));
+    let err = stderr(&out);
+    assert!(
+        err.contains("notes.cube: not a file sixray reads (cube, molden, fchk, wfn, wfx); it starts with \"hello world\""),
+        "{err}"
+    );
+    // An fchk file goes to the basis-set reader, which says what it misses.
+    assert!(err.contains("water.fchk: expected a section \"Atomic numbers\", found none"), "{err}");
+}
+
+#[test]
 fn bad_arguments_exit_with_status_two() {
     let dir = tempfile::tempdir().unwrap();
     let f = samples().join("lithium_hydride/orbital_001.cube.gz");

@@ -1,4 +1,4 @@
-//! Integration tests of the readers (cube, molden), built as one binary.
+//! Integration tests of the readers (cube, molden, fchk, wfn, wfx), built as one binary.
 
 mod common;
 mod errors;
@@ -6,4 +6,5 @@ mod format;
 mod molden;
 mod read;
 mod robustness;
+mod wavefunction;
 mod shared;
