@@ -302,6 +302,8 @@ fn analyse_occupied(
             tail_correction: None,
             energy: o.energy,
             set: OrbitalSet::Canonical,
+            kind: Some(Kind::Amplitude),
+            kind_origin: Some(crate::input::KindOrigin::computed()),
         });
     }
     reports
@@ -364,6 +366,7 @@ pub fn sample_molden(path: &Path, spacing: f64, margin: f64, par: Parallelism) -
                 geometry: geometry.clone(),
                 nuclei: nuclei.clone(),
                 kind: Kind::Amplitude,
+                kind_origin: Some(crate::input::KindOrigin::computed()),
                 values,
             });
         }

@@ -161,6 +161,8 @@ mod tests {
             tail_correction: None,
             energy: None,
             set: Default::default(),
+            kind: None,
+            kind_origin: None,
         }
     }
 

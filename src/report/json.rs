@@ -11,7 +11,10 @@
 //!                  "cusp_correction": {"nuclei", "hartree", "models": {MODEL: {"exchange",
 //!                  "correlation"}}} or null,
 //!                  "tail_correction": {"lost_charge", "hartree", "models": {MODEL:
-//!                  {"exchange", "correlation"}}} or null} ],
+//!                  {"exchange", "correlation"}}} or null,
+//!                  "kind": "amplitude"|"density", "kind_source": "given"|"detected"|"computed"
+//!                  or null, "kind_evidence": {"integral", "square_integral", "negative_share",
+//!                  "nuclear_charge", "title"} or null} ],
 //!                  // worst first; corrections: corrected − plain
 //!   "totals": {MODEL: {"perdew_zunger", "mean_cancellation"}}, "spin_orbitals": N,
 //!   "failures": [{"source", "error"}],
@@ -85,6 +88,15 @@ pub fn orbitals(report: &Report) -> Vec<Value> {
                     "lost_charge": t.lost_charge,
                     "hartree": t.hartree,
                     "models": changes_per_model(report, &t.models),
+                })),
+                "kind": o.kind.map(|k| k.as_str()),
+                "kind_source": o.kind_origin.as_ref().map(|k| k.source.as_str()),
+                "kind_evidence": o.kind_origin.as_ref().and_then(|k| k.evidence).map(|e| json!({
+                    "integral": e.integral,
+                    "square_integral": e.square_integral,
+                    "negative_share": e.negative_share,
+                    "nuclear_charge": e.nuclear_charge,
+                    "title": e.title,
                 })),
             })
         })

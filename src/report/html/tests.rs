@@ -42,6 +42,8 @@ fn orbital(label: &str, spin: Spin, hartree: f64, models: &[(f64, f64)], errors:
         tail_correction: None,
         energy: None,
             set: Default::default(),
+        kind: None,
+        kind_origin: None,
     }
 }
 
