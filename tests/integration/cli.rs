@@ -542,3 +542,38 @@ fn a_squared_amplitude_sample_is_detected_as_a_density() {
     assert_eq!((amplitude["kind"].as_str(), amplitude["kind_source"].as_str()), (Some("amplitude"), Some("detected")));
     assert!(amplitude["kind_evidence"]["negative_share"].as_f64().unwrap() > 1e-3);
 }
+
+#[test]
+fn a_file_without_occupied_orbitals_is_a_failure() {
+    let dir = tempfile::tempdir().unwrap();
+    let p = dir.path();
+    // One hydrogen s function, its orbital written with occupation 0 (invented).
+    let molden = "[Molden Format]\n[Atoms] AU\nH 1 1 0.0 0.0 0.0\n[GTO]\n  1 0\ns 1 1.00\n  0.5 1.0\n\n[MO]\n Sym= A\n Ene= 0.5\n Spin= Alpha\n Occup= 0.0\n  1 1.0\n";
+    std::fs::write(p.join("empty.molden"), molden).unwrap();
+    std::fs::write(p.join("full.molden"), molden.replace("Occup= 0.0", "Occup= 1.0")).unwrap();
+    let out = sixray(&["rank", "-f", "json", "empty.molden", "full.molden"], p);
+    assert_eq!(out.status.code(), Some(2), "{}", stderr(&out));
+    let err = stderr(&out);
+    assert!(err.contains("empty.molden: no occupied orbitals: the file lists 1 orbital(s), none occupied: every `Occup=` is 0"), "{err}");
+    let v = json(&out);
+    assert_eq!(v["failures"][0]["source"], "empty.molden");
+    assert_eq!(v["orbitals"].as_array().unwrap().len(), 1);
+    // Localized: the same failure.
+    let out = sixray(&["rank", "--orbitals", "localized", "empty.molden"], p);
+    assert_eq!(out.status.code(), Some(2));
+    assert!(stderr(&out).contains("no occupied orbitals"), "{}", stderr(&out));
+    // A workflow marks the calculation failed, with the reason.
+    std::fs::write(p.join("set.yaml"), "calculations:\n  - name: empty\n    files: [empty.molden]\n  - name: full\n    files: [full.molden]\nmodels: [lsda]\nreport:\n  dir: out\n  formats: [json]\n").unwrap();
+    let run = sixray(&["batch", "set.yaml", "--quiet"], p);
+    assert_eq!(run.status.code(), Some(1), "{}", stderr(&run));
+    let report: Value = serde_json::from_slice(&std::fs::read(p.join("out/report.json")).unwrap()).unwrap();
+    let calcs = report["calculations"].as_array().unwrap();
+    assert_eq!((calcs[0]["status"].as_str(), calcs[1]["status"].as_str()), (Some("failed"), Some("ok")));
+    assert!(calcs[0]["failures"][0]["error"].as_str().unwrap().contains("no occupied orbitals"), "{}", calcs[0]);
+    // The CFOUR file with a d shell only, every occupation 0.
+    let Some(shared) = shared_dir("a_file_without_occupied_orbitals_is_a_failure") else { return };
+    let f = shared.join("real-world/h_donly_sph_cfour.molden");
+    let out = sixray(&["rank", f.to_str().unwrap()], p);
+    assert_eq!(out.status.code(), Some(2));
+    assert!(stderr(&out).contains("h_donly_sph_cfour.molden: no occupied orbitals"), "{}", stderr(&out));
+}
