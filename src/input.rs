@@ -89,7 +89,7 @@ pub enum InputError {
     },
     /// The values are a many-electron density, not one orbital's.
     #[error(
-        "{}{}: a total electron density, not an orbital: the values are non-negative and integrate to {:.3} electrons (the listed nuclei's charges sum to {}); rank needs one orbital per field (amplitude or density){}",
+        "{}{}: a total electron density, not an orbital: the values are non-negative and integrate to {:.3} electrons (the listed nuclei's charges sum to {}); the analysis needs one orbital per field (its amplitude or its density){}",
         path.display(), field_label(*field), evidence.integral, evidence.nuclear_charge, total_density_note(path)
     )]
     TotalDensity {
