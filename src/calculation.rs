@@ -14,7 +14,9 @@ use crate::diagnostics::{Engine, GridOrbital, OrbitalReport, OrbitalSet, Ranking
 use crate::localize::{ChannelLocalization, LocalizeParams, localize_grid_orbitals};
 use crate::grid::GridGeometry;
 use crate::input::{LoadParams, geometry_of, load_cube, orbital_labels};
-use crate::molecular::{MolecularParams, analyse_molden, analyse_molden_localized, occupied_orbitals, sample_molden};
+use crate::molecular::{
+    MolecularParams, analyse_molden, analyse_molden_localized, occupation_summary, occupied_orbitals, sample_molden,
+};
 use crate::par::Parallelism;
 use crate::progress::{Progress, Silent};
 use sixray_parsers::cube::read_cube_header;
@@ -195,12 +197,25 @@ fn analyse_file_quietly(
                 .collect()
         }
     };
+    if reports.is_empty() {
+        return Err(fail(no_occupied(path, format)));
+    }
     Ok((reports, from_cache))
 }
 
 /// The failure message for a file of no known format; `start` describes its first line.
 fn unknown_format(path: &Path, start: &str) -> String {
     format!("{}: not a file sixray reads ({}); it starts with {start}", path.display(), FileFormat::READ)
+}
+
+/// The failure of a file that yields no orbital to analyse, with what the file says about
+/// occupations where it can tell.
+fn no_occupied(path: &Path, format: FileFormat) -> String {
+    let detail = match format {
+        FileFormat::Cube => "the file holds no orbital values".to_string(),
+        _ => occupation_summary(path).unwrap_or_else(|e| e.to_string()),
+    };
+    format!("{}: no occupied orbitals: {detail}; nothing to analyse", path.display())
 }
 
 /// Every occupied orbital of a Gaussian-basis file: exactly, or through the grid path on a
@@ -307,6 +322,7 @@ pub fn analyse_localized(
                         .and_then(|orbitals| localize_on_grid(orbitals, &source)),
                 };
                 match result {
+                    Ok((r, _)) if r.is_empty() => failures.push(fail(no_occupied(path, FileFormat::Molden))),
                     Ok((r, channels)) => {
                         reports.extend(r);
                         localization.extend(channels.into_iter().map(|channel| LocalizationSummary { source: source.clone(), channel }));

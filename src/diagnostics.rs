@@ -17,6 +17,7 @@
 use crate::cusp::{self, CuspModel};
 use crate::gradient::{GradientParams, gradient_squared};
 use crate::grid::{GridGeometry, Nucleus};
+use crate::input::KindOrigin;
 use crate::par::Parallelism;
 use crate::poisson::{HartreeParams, HartreeSolver};
 use crate::xc::slater::XAlpha;
@@ -58,13 +59,24 @@ impl Spin {
 }
 
 /// What the values of a grid orbital are.
-#[derive(Clone, Copy, Debug, PartialEq, Eq, Default)]
+#[derive(Clone, Copy, Debug, PartialEq, Eq, Default, Serialize, Deserialize)]
+#[serde(rename_all = "lowercase")]
 pub enum Kind {
     /// Orbital amplitudes φ_i, 1/bohr^{3/2}; the density is f_i φ_i².
     #[default]
     Amplitude,
     /// Orbital densities |φ_i|², electrons/bohr³ per unit occupation.
     Density,
+}
+
+impl Kind {
+    /// The name used in reports and options.
+    pub fn as_str(self) -> &'static str {
+        match self {
+            Kind::Amplitude => "amplitude",
+            Kind::Density => "density",
+        }
+    }
 }
 
 /// One spin-orbital on a grid, ready for analysis.
@@ -85,6 +97,9 @@ pub struct GridOrbital {
     pub nuclei: Arc<[Nucleus]>,
     /// What `values` are.
     pub kind: Kind,
+    /// Who settled `kind`, and on what evidence (`None`: the caller, without evidence; the
+    /// `kind-suspicious` check then weighs the values itself).
+    pub kind_origin: Option<KindOrigin>,
     /// φ_i (amplitudes, 1/bohr^{3/2}) or |φ_i|² (densities, 1/bohr³) at every grid point, as read.
     pub values: Vec<f64>,
 }
@@ -103,6 +118,7 @@ impl GridOrbital {
             geometry: Arc::new(geometry),
             nuclei: Arc::from(nuclei),
             kind,
+            kind_origin: None,
         }
     }
 
@@ -183,6 +199,12 @@ pub struct OrbitalReport {
     /// How the basis-set file was read and checked (`None` for grid files).
     #[serde(default)]
     pub input: Option<InputCheck>,
+    /// What the values were read as (amplitudes for basis-set files).
+    #[serde(default)]
+    pub kind: Option<Kind>,
+    /// Who settled `kind`, and on what evidence (`None` where the caller gave it without).
+    #[serde(default)]
+    pub kind_origin: Option<KindOrigin>,
 }
 
 /// How a basis-set file's numbers were read, and the evidence that the reading is right: the
@@ -479,6 +501,8 @@ impl Engine {
             energy: None,
             set: OrbitalSet::Canonical,
             input: None,
+            kind: Some(orbital.kind),
+            kind_origin: orbital.kind_origin.clone(),
         };
         check_finite(&report, &self.models)?;
         if let Some(tail) = tail.as_ref().filter(|_| self.params.trust.error_bars) {

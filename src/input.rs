@@ -1,10 +1,17 @@
 //! From grid files to orbital densities.
 //!
-//! A cube file holds orbital amplitudes φ_i (the default) or orbital densities, one or several
-//! orbitals per file. Here each becomes a [`GridOrbital`] on a [`GridGeometry`] in bohr, with a
-//! kind, an occupation, a spin and a label.
+//! A cube file holds orbital amplitudes φ_i or orbital densities, one or several orbitals per
+//! file. Here each becomes a [`GridOrbital`] on a [`GridGeometry`] in bohr, with a kind (given,
+//! or decided from the values: [`kind`]), an occupation, a spin and a label. Files that cannot
+//! give a number are refused: grids too coarse for any orbital, and total densities.
+
+mod kind;
 
 pub use crate::diagnostics::Kind;
+pub use kind::{
+    AMBIGUITY, Decision, KindEvidence, KindOrigin, KindSource, MAX_ION_CHARGE, MAX_ORBITAL_ELECTRONS, MAX_STEP, NEGATIVE_SHARE,
+    TitleHint, TooCoarse, Verdict, check_resolution, contradicts, decide,
+};
 use crate::diagnostics::{GridOrbital, Spin};
 use crate::grid::{BOHR_PER_ANGSTROM, GridError, GridGeometry, Nucleus};
 use crate::molecular::MolecularParams;
@@ -26,8 +33,8 @@ pub enum SpinRule {
 /// How to turn files into orbital densities.
 #[derive(Clone, Debug, PartialEq)]
 pub struct LoadParams {
-    /// What the values are.
-    pub kind: Kind,
+    /// What the values are; `None`: decided from the values ([`decide`]).
+    pub kind: Option<Kind>,
     /// How spins are assigned.
     pub spin: SpinRule,
     /// Electrons per spin-orbital, f_i, for files that cannot say (0 < f ≤ 1).
@@ -42,7 +49,7 @@ pub struct LoadParams {
 impl Default for LoadParams {
     fn default() -> Self {
         LoadParams {
-            kind: Kind::Amplitude,
+            kind: None,
             spin: SpinRule::FromName,
             occupation: 1.0,
             read: ReadParams::default(),
@@ -65,6 +72,44 @@ pub enum InputError {
         /// What is wrong with the grid.
         source: GridError,
     },
+    /// The grid's steps are too long for any orbital (see [`MAX_STEP`]).
+    #[error(
+        "{}: grid too coarse for any number: steps of {:.3} bohr with {} × {} × {} points; an orbital needs steps of at most {MAX_STEP} bohr, and about 0.15 bohr for error bars within the default tolerance{}",
+        path.display(), coarse.step, coarse.shape[0], coarse.shape[1], coarse.shape[2],
+        if *looks_total { format!("; its title says density and its values do not look like one orbital: if it is a total density, `sixray inspect {}` checks those", path.display()) } else { String::new() }
+    )]
+    TooCoarse {
+        /// The file.
+        path: PathBuf,
+        /// Its longest step and shape.
+        coarse: TooCoarse,
+        /// The title says density and the values, on this grid, read as a total density
+        /// ([`decide`]; the integrals of so coarse a grid are no proof, hence the title too).
+        looks_total: bool,
+    },
+    /// The values are a many-electron density, not one orbital's.
+    #[error(
+        "{}{}: a total electron density, not an orbital: the values are non-negative and integrate to {:.3} electrons (the listed nuclei's charges sum to {}); the analysis needs one orbital per field (its amplitude or its density){}",
+        path.display(), field_label(*field), evidence.integral, evidence.nuclear_charge, total_density_note(path)
+    )]
+    TotalDensity {
+        /// The file.
+        path: PathBuf,
+        /// Which field of a multi-orbital file (from 1), if it holds several.
+        field: Option<usize>,
+        /// The integrals.
+        evidence: KindEvidence,
+    },
+}
+
+/// ` (orbital K)` for the K-th field of a file holding several.
+fn field_label(field: Option<usize>) -> String {
+    field.map(|k| format!(" (orbital {k})")).unwrap_or_default()
+}
+
+/// The pointer to the check of total-density files.
+fn total_density_note(path: &Path) -> String {
+    format!("; `sixray inspect {}` checks total-density files", path.display())
 }
 
 /// Geometry and nuclei of a parsed grid-file header, converted to bohr.
@@ -136,11 +181,26 @@ pub fn orbital_labels(path: &Path, header: &CubeHeader) -> Vec<String> {
         .collect()
 }
 
-/// Reads one grid file: one orbital per value stored at each point.
+/// Reads one grid file: one orbital per value stored at each point, each read as the kind
+/// `params` gives or, without one, as its values say ([`decide`], the title lines as a hint).
+/// Refuses grids whose steps exceed [`MAX_STEP`] and fields that hold a total density.
 pub fn load_cube(path: &Path, params: &LoadParams) -> Result<Vec<GridOrbital>, InputError> {
     let file = cube::read_cube(path, &params.read)?;
     let (geometry, nuclei) =
         geometry_of(&file.header).map_err(|source| InputError::Grid { path: path.to_path_buf(), source })?;
+    let title = TitleHint::from_titles(&file.header.comments);
+    let evidence: Vec<KindEvidence> = file.fields.iter().map(|v| KindEvidence::of(v, &geometry, &nuclei, title)).collect();
+    // The user's kind, else the title's, breaks ties between readings.
+    let preferred = params.kind.or(title.map(TitleHint::kind));
+    let decisions: Vec<Decision> = evidence.iter().map(|e| decide(e, preferred)).collect();
+    if let Err(coarse) = check_resolution(&geometry) {
+        let looks_total = title == Some(TitleHint::Density) && decisions.iter().any(|d| d.verdict == Verdict::TotalDensity);
+        return Err(InputError::TooCoarse { path: path.to_path_buf(), coarse, looks_total });
+    }
+    let several = file.fields.len() > 1;
+    if let Some(k) = decisions.iter().position(|d| d.verdict == Verdict::TotalDensity) {
+        return Err(InputError::TotalDensity { path: path.to_path_buf(), field: several.then_some(k + 1), evidence: evidence[k] });
+    }
     let geometry = Arc::new(geometry);
     let nuclei: Arc<[Nucleus]> = Arc::from(nuclei);
     let spin = params.spin_for(path);
@@ -149,15 +209,27 @@ pub fn load_cube(path: &Path, params: &LoadParams) -> Result<Vec<GridOrbital>, I
         .fields
         .into_iter()
         .zip(labels)
-        .map(|(values, label)| GridOrbital {
-            source: path.display().to_string(),
-            label,
-            spin,
-            occupation: params.occupation,
-            geometry: geometry.clone(),
-            nuclei: nuclei.clone(),
-            kind: params.kind,
-            values,
+        .zip(evidence.into_iter().zip(decisions))
+        .map(|((values, label), (evidence, decision))| {
+            let (kind, origin) = match params.kind {
+                Some(kind) => (kind, KindOrigin { source: KindSource::Given, evidence: Some(evidence), contradicted: contradicts(kind, &evidence) }),
+                // Not a total density (refused above), so a one-orbital kind.
+                None => (
+                    decision.verdict.kind().unwrap_or_default(),
+                    KindOrigin { source: KindSource::Detected, evidence: Some(evidence), contradicted: false },
+                ),
+            };
+            GridOrbital {
+                source: path.display().to_string(),
+                label,
+                spin,
+                occupation: params.occupation,
+                geometry: geometry.clone(),
+                nuclei: nuclei.clone(),
+                kind,
+                kind_origin: Some(origin),
+                values,
+            }
         })
         .collect())
 }

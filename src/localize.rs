@@ -243,6 +243,7 @@ pub fn localize_grid_orbitals(
                 source: channel.iter().map(|o| o.source.as_str()).collect::<Vec<_>>().join(" + "),
                 label: format!("loc#{}{suffix}", k + 1),
                 values: v,
+                kind_origin: Some(crate::input::KindOrigin::computed()),
                 ..(*first).clone()
             });
         }

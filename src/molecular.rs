@@ -74,6 +74,24 @@ pub fn occupied_orbitals(path: &Path) -> Result<Vec<(String, Option<f64>)>, Basi
     Ok(occupied(&orbitals, &crate::input::stem(path)).into_iter().map(|o| (o.label, o.energy)).collect())
 }
 
+/// What a basis-set file says about occupations, for the failure of a file without occupied
+/// orbitals: `the file lists N orbital(s), none occupied: …`.
+pub fn occupation_summary(path: &Path) -> Result<String, BasisError> {
+    let (_, orbitals) = basis_file(path)?;
+    let all = &orbitals.orbitals;
+    let given: Vec<f64> = all.iter().filter_map(|o| o.occupation).collect();
+    let detail = if given.is_empty() {
+        "the file gives no occupations (no `Occup=` lines)".to_string()
+    } else if given.len() < all.len() {
+        format!("{} give no occupation, the largest given is {}", all.len() - given.len(), given.iter().copied().fold(f64::MIN, f64::max))
+    } else if given.iter().all(|&f| f == 0.0) {
+        "every `Occup=` is 0".to_string()
+    } else {
+        format!("the largest `Occup=` is {:e}", given.iter().copied().fold(f64::MIN, f64::max))
+    };
+    Ok(format!("the file lists {} orbital(s), none occupied: {detail}", all.len()))
+}
+
 /// Error bar of a grid integral per unit of its change from the neighbouring level (module docs).
 const GRID_BAR_FACTOR: f64 = 2.0;
 
@@ -331,6 +349,8 @@ fn analyse_occupied(
             energy: o.energy,
             set: OrbitalSet::Canonical,
             input: Some(input.clone()),
+            kind: Some(Kind::Amplitude),
+            kind_origin: Some(crate::input::KindOrigin::computed()),
         });
     }
     reports
@@ -393,6 +413,7 @@ pub fn sample_molden(path: &Path, spacing: f64, margin: f64, par: Parallelism) -
                 geometry: geometry.clone(),
                 nuclei: nuclei.clone(),
                 kind: Kind::Amplitude,
+                kind_origin: Some(crate::input::KindOrigin::computed()),
                 values,
             });
         }

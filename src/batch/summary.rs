@@ -162,6 +162,8 @@ mod tests {
             energy: None,
             set: Default::default(),
             input: None,
+            kind: None,
+            kind_origin: None,
         }
     }
 

@@ -4,7 +4,7 @@
 //! calculations:                      # the test set
 //!   - name: water                    # unique label
 //!     files: [water/*.cube.gz]       # paths or glob patterns, relative to this file
-//!     kind: amplitude                # optional: amplitude (default) | density
+//!     kind: auto                     # optional: auto (default: from the values) | amplitude | density
 //!     spin: from-name                # optional: from-name (default) | restricted | alpha | beta
 //!     occupation: 1.0                # optional: electrons per spin-orbital, 0 < f ≤ 1
 //!     tags: [neutral]                # optional
@@ -220,6 +220,7 @@ impl Named for ModelName {
 #[serde(rename_all = "lowercase")]
 enum KindSpec {
     #[default]
+    Auto,
     Amplitude,
     Density,
 }
@@ -494,8 +495,9 @@ impl Workflow {
                     SpinSpec::Beta => SpinRule::Fixed(Spin::Beta),
                 };
                 let kind = match c.kind {
-                    KindSpec::Amplitude => Kind::Amplitude,
-                    KindSpec::Density => Kind::Density,
+                    KindSpec::Auto => None,
+                    KindSpec::Amplitude => Some(Kind::Amplitude),
+                    KindSpec::Density => Some(Kind::Density),
                 };
                 let occupation = c.occupation.map_or(1.0, |o| o.0);
                 let molecular = MolecularParams {
@@ -572,7 +574,7 @@ mod tests {
         let c = &w.calculations[0];
         // Each file once, in pattern order.
         assert_eq!(c.files, vec![dir.path().join("a/orbital_001.cube"), dir.path().join("a/orbital_002.cube")]);
-        assert_eq!(c.load.kind, Kind::Amplitude);
+        assert_eq!(c.load.kind, None);
         assert_eq!(c.load.spin, SpinRule::FromName);
         assert_eq!(w.report.dir, dir.path().join("report"));
         assert_eq!(w.report.formats, [ReportFormat::Markdown, ReportFormat::Csv, ReportFormat::Json, ReportFormat::Html]);
@@ -587,7 +589,7 @@ mod tests {
         let (_dir, w) = setup(yaml);
         let w = w.unwrap();
         let c = &w.calculations[0];
-        assert_eq!((c.load.kind, c.load.spin, c.load.occupation), (Kind::Density, SpinRule::Fixed(Spin::Alpha), 0.5));
+        assert_eq!((c.load.kind, c.load.spin, c.load.occupation), (Some(Kind::Density), SpinRule::Fixed(Spin::Alpha), 0.5));
         assert_eq!(c.tags, ["open-shell"]);
         let names: Vec<_> = w.models.iter().map(|m| m.name.as_str()).collect();
         assert_eq!(names, ["mine", "xalpha=0.8", "scan"]);

@@ -57,8 +57,8 @@ pub fn run_batch(args: BatchArgs, threads: Option<usize>) -> anyhow::Result<Stat
     let summary = SetSummary::new(&results, workflow.models.len(), workflow.report.worst);
     let report = BatchReport { workflow: &workflow, results: &results, summary: &summary };
     let written = write(&report).with_context(|| format!("writing reports to {}", workflow.report.dir.display()))?;
-    for (c, plan) in results.iter().zip(&workflow.calculations) {
-        for w in c.outcome.ranking.orbitals.iter().filter_map(|o| sixray::report::kind_warning(o, plan.load.kind)) {
+    for c in &results {
+        for w in c.outcome.ranking.orbitals.iter().filter_map(sixray::report::kind_warning) {
             eprintln!("sixray: warning: calculation {}: {w} (the workflow's `kind:`)", c.name);
         }
     }

@@ -57,10 +57,10 @@ pub fn run(args: InspectArgs) -> anyhow::Result<Status> {
         bail!("--orbitals belongs to one density file, but {} were given", args.files.len());
     }
     let load = LoadParams {
-        kind: match args.kind {
+        kind: Some(match args.kind {
             KindArg::Amplitude => Kind::Amplitude,
             KindArg::Density => Kind::Density,
-        },
+        }),
         ..LoadParams::default()
     };
     let params = InspectParams::default();

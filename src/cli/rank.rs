@@ -37,8 +37,9 @@ pub struct RankArgs {
     #[arg(long, value_name = "MODEL")]
     rank_by: Option<String>,
 
-    /// What the grid values are.
-    #[arg(long, value_enum, default_value_t = KindArg::Amplitude)]
+    /// What the grid values are: decided from the values (auto), orbital amplitudes φ, or
+    /// orbital densities |φ|².
+    #[arg(long, value_enum, default_value_t = KindArg::Auto)]
     kind: KindArg,
 
     /// Spin of the orbitals; from-name looks for alpha/beta in the file name.
@@ -111,6 +112,7 @@ pub struct RankArgs {
 
 #[derive(Clone, Copy, Debug, ValueEnum)]
 enum KindArg {
+    Auto,
     Amplitude,
     Density,
 }
@@ -182,8 +184,9 @@ pub fn run(args: RankArgs) -> anyhow::Result<Status> {
     }
     let load = LoadParams {
         kind: match args.kind {
-            KindArg::Amplitude => Kind::Amplitude,
-            KindArg::Density => Kind::Density,
+            KindArg::Auto => None,
+            KindArg::Amplitude => Some(Kind::Amplitude),
+            KindArg::Density => Some(Kind::Density),
         },
         spin: match args.spin {
             SpinArg::FromName => SpinRule::FromName,
@@ -232,7 +235,7 @@ pub fn run(args: RankArgs) -> anyhow::Result<Status> {
         for f in &outcome.failures {
             eprintln!("sixray: error: {}", f.error);
         }
-        for w in outcome.ranking.orbitals.iter().filter_map(|o| report::kind_warning(o, load.kind)) {
+        for w in outcome.ranking.orbitals.iter().filter_map(report::kind_warning) {
             eprintln!("sixray: warning: {w}");
         }
     }

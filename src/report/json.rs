@@ -14,7 +14,10 @@
 //!                  {"exchange", "correlation"}}} or null,
 //!                  "input": {"format", "writer", "convention", "orthonormality",
 //!                  "tolerance", "core_potentials"} or null (basis-set files: how they were
-//!                  read)} ],
+//!                  read),
+//!                  "kind": "amplitude"|"density", "kind_source": "given"|"detected"|"computed"
+//!                  or null, "kind_evidence": {"integral", "square_integral", "negative_share",
+//!                  "nuclear_charge", "title"} or null} ],
 //!                  // worst first; corrections: corrected − plain
 //!   "totals": {MODEL: {"perdew_zunger", "mean_cancellation"}}, "spin_orbitals": N,
 //!   "failures": [{"source", "error"}],
@@ -96,6 +99,15 @@ pub fn orbitals(report: &Report) -> Vec<Value> {
                     "orthonormality": c.orthonormality,
                     "tolerance": c.tolerance,
                     "core_potentials": c.core_potentials,
+                })),
+                "kind": o.kind.map(|k| k.as_str()),
+                "kind_source": o.kind_origin.as_ref().map(|k| k.source.as_str()),
+                "kind_evidence": o.kind_origin.as_ref().and_then(|k| k.evidence).map(|e| json!({
+                    "integral": e.integral,
+                    "square_integral": e.square_integral,
+                    "negative_share": e.negative_share,
+                    "nuclear_charge": e.nuclear_charge,
+                    "title": e.title,
                 })),
             })
         })

@@ -120,17 +120,30 @@ pub fn flags_text(o: &OrbitalReport) -> String {
     }
 }
 
-/// A warning with its fix for an orbital whose values look like the other kind, read as `kind`.
-pub fn kind_warning(o: &OrbitalReport, kind: crate::diagnostics::Kind) -> Option<String> {
+/// A warning with its fix for an orbital whose values clearly look like the other kind than the
+/// one given (the `kind-suspicious` flag), with the integrals that say so.
+pub fn kind_warning(o: &OrbitalReport) -> Option<String> {
     use crate::diagnostics::{Flag, Kind};
     if !o.flags.contains(&Flag::KindSuspicious) {
         return None;
     }
-    let (seen, other) = match kind {
-        Kind::Amplitude => ("the values themselves integrate to one electron, as densities do", ("densities", "density")),
-        Kind::Density => ("the squares of the values integrate to one electron, as amplitudes do", ("amplitudes", "amplitude")),
+    let kind = o.kind.unwrap_or_default();
+    let other = match kind {
+        Kind::Amplitude => Kind::Density,
+        Kind::Density => Kind::Amplitude,
     };
-    Some(format!("{} ({}): {seen}; if the file holds {}, read it with --kind {}", o.label, o.source, other.0, other.1))
+    let seen = o.kind_origin.as_ref().and_then(|k| k.evidence).map_or(String::new(), |e| {
+        let sign = if e.negative_share > crate::input::NEGATIVE_SHARE { ", changing sign" } else { ", never negative" };
+        format!(" (∫v dV = {:.4}, ∫v² dV = {:.4}{sign})", e.integral, e.square_integral)
+    });
+    Some(format!(
+        "{} ({}): read as {} values, but they look like {} values{seen}; read it with --kind {}, or leave --kind out to decide from the values",
+        o.label,
+        o.source,
+        kind.as_str(),
+        other.as_str(),
+        other.as_str()
+    ))
 }
 
 impl FromStr for EnergyUnit {

@@ -34,8 +34,8 @@
 //! Checks, each a [`Flag`]: the grid-dependent part (registration and cusps) of the error bar of
 //! J or of some model's δ above the tolerance (under-resolved), charge lost beyond the box above 1e-3 of the occupation or a tail error of J
 //! above the tolerance (truncated box), a norm (with the lost charge) off the occupation by more
-//! than 1 % (norm off), and values that integrate to the occupation themselves while their
-//! squares do not, or the reverse (kind suspicious).
+//! than 1 % (norm off), and a kind given by the user that the values clearly contradict (kind
+//! suspicious; see `input::decide`).
 //!
 //! On the shared reference set (PySCF 2.14 orbitals on 0.15 bohr grids against exact integrals
 //! and libxc on a fine Becke grid) these bars bracket the reference for the share of orbitals and
@@ -47,7 +47,8 @@ mod truncation;
 pub(crate) use truncation::Tail;
 
 use crate::cusp::{self, CuspModel};
-use crate::diagnostics::{DiagnosticsError, Engine, Flag, GridOrbital, GridSums, Kind, ModelErrors, OrbitalErrors, OrbitalReport};
+use crate::diagnostics::{DiagnosticsError, Engine, Flag, GridOrbital, GridSums, ModelErrors, OrbitalErrors, OrbitalReport};
+use crate::input::{self, KindEvidence};
 use crate::par::Parallelism;
 use crate::xc::{Family, Functional};
 
@@ -199,7 +200,7 @@ pub(crate) fn assess(
     if ((report.norm + tail.lost_charge) / f - 1.0).abs() > NORM_LIMIT {
         flags.push(Flag::NormOff);
     }
-    if kind_suspicious(orbital, par) {
+    if kind_suspicious(orbital) {
         flags.push(Flag::KindSuspicious);
     }
     let finite = errors.hartree.is_finite()
@@ -213,18 +214,13 @@ pub(crate) fn assess(
     Ok(())
 }
 
-/// One electron per unit occupation: amplitudes square to it, densities are it. Values that fit
-/// the other kind much better than their own are suspicious.
-fn kind_suspicious(orbital: &GridOrbital, par: Parallelism) -> bool {
-    let w = orbital.geometry.voxel_volume();
-    let v = &orbital.values;
-    let linear = w * par.chunked_sum(v.len(), |r| v[r].iter().sum());
-    let squared = w * par.chunked_sum(v.len(), |r| v[r].iter().map(|x| x * x).sum());
-    let (own, other) = match orbital.kind {
-        Kind::Amplitude => (squared, linear),
-        Kind::Density => (linear, squared),
-    };
-    (own - 1.0).abs() > 0.1 && (other - 1.0).abs() < 0.02
+/// The kind the values were read as goes against what they clearly are ([`input::contradicts`]):
+/// only a kind someone gave can, a detected one is what the values say.
+fn kind_suspicious(orbital: &GridOrbital) -> bool {
+    match &orbital.kind_origin {
+        Some(origin) => origin.contradicted,
+        None => input::contradicts(orbital.kind, &KindEvidence::of(&orbital.values, &orbital.geometry, &orbital.nuclei, None)),
+    }
 }
 
 /// Registration spreads, hartree: max_k |Q_k − Q| over the sub-lattices, per quantity.

@@ -4,7 +4,7 @@ use serde_json::Value;
 use std::fmt::Write as _;
 use std::path::{Path, PathBuf};
 use std::process::Output;
-use crate::common::{sixray, stderr, stdout};
+use crate::common::{shared_dir, sixray, stderr, stdout};
 
 fn samples() -> PathBuf {
     PathBuf::from(env!("CARGO_MANIFEST_DIR")).join("samples")
@@ -201,10 +201,17 @@ fn units_kinds_and_occupations_of_synthetic_files_agree() {
     assert!((ang - bohr).abs() < 1e-5 * want, "{ang} vs {bohr}");
     let (dens, _) = j(&["rank", "-f", "json", "--kind", "density", "dens.cube"]);
     assert!((dens - bohr).abs() < 1e-5 * want, "{dens} vs {bohr}");
-    // A density read as amplitudes is flagged, with the fix on standard error.
-    let wrong = sixray(&["rank", "-f", "json", "dens.cube"], p);
+    // Without --kind the values say what they are.
+    let (auto, _) = j(&["rank", "-f", "json", "dens.cube"]);
+    assert_eq!(auto, dens);
+    // A density read as amplitudes because the user said so is flagged, with the fix on
+    // standard error; the same kind detected is not.
+    let wrong = sixray(&["rank", "-f", "json", "--kind", "amplitude", "dens.cube"], p);
     assert!(json(&wrong)["orbitals"][0]["flags"].as_array().unwrap().iter().any(|f| f == "kind-suspicious"));
     assert!(stderr(&wrong).contains("read it with --kind density"), "{}", stderr(&wrong));
+    let right = sixray(&["rank", "-f", "json", "bohr.cube"], p);
+    assert!(!stderr(&right).contains("--kind"), "{}", stderr(&right));
+    assert!(json(&right)["orbitals"][0]["flags"].as_array().unwrap().iter().all(|f| f != "kind-suspicious"));
     // Half an electron: a quarter of J, half the norm.
     let (half, half_norm) = j(&["rank", "-f", "json", "--occupation", "0.5", "bohr.cube"]);
     assert!((half - 0.25 * bohr).abs() < 1e-12 && (half_norm - 0.5 * norm).abs() < 1e-12);
@@ -423,4 +430,171 @@ fn tail_correction_is_opt_in_reported_and_added() {
     assert!(md.contains("| tail ΔJ (Eh) |"), "{md}");
     let plain_md = stdout(&sixray(&["rank", "-f", "markdown", f], dir.path()));
     assert!(!plain_md.contains("tail ΔJ"), "{plain_md}");
+}
+
+/// A cube text of `value(r)` (r in bohr) on a cubic grid of `points` per axis and step `h` bohr
+/// centred on the origin, listing `atoms` (Z, position in bohr). Invented data for these tests.
+fn cube_of(title: &str, points: usize, h: f64, atoms: &[(i32, [f64; 3])], value: impl Fn([f64; 3]) -> f64) -> String {
+    let o = -(points as f64 - 1.0) * h / 2.0;
+    let mut s = format!("{title}\ninvented for the tests\n{:5}{:12.6}{:12.6}{:12.6}\n", atoms.len(), o, o, o);
+    for a in 0..3 {
+        let mut v = [0.0; 3];
+        v[a] = h;
+        let _ = writeln!(s, "{:5}{:12.6}{:12.6}{:12.6}", points, v[0], v[1], v[2]);
+    }
+    for (z, p) in atoms {
+        let _ = writeln!(s, "{:5}{:12.6}{:12.6}{:12.6}{:12.6}", z, *z as f64, p[0], p[1], p[2]);
+    }
+    for i in 0..points {
+        for j in 0..points {
+            for k in 0..points {
+                let _ = write!(s, "{:14.6E}", value([i, j, k].map(|x| o + x as f64 * h)));
+                if k % 6 == 5 {
+                    s.push('\n');
+                }
+            }
+            s.push('\n');
+        }
+    }
+    s
+}
+
+/// Hydrogenic 1s density of charge z at c (textbook): (z³/π) e^{−2z|r − c|}.
+fn s_density(z: f64, c: [f64; 3], r: [f64; 3]) -> f64 {
+    let d = ((r[0] - c[0]).powi(2) + (r[1] - c[1]).powi(2) + (r[2] - c[2]).powi(2)).sqrt();
+    z.powi(3) / std::f64::consts::PI * (-2.0 * z * d).exp()
+}
+
+#[test]
+fn a_total_density_is_refused_with_a_pointer_to_inspect() {
+    let dir = tempfile::tempdir().unwrap();
+    let p = dir.path();
+    // An invented lithium-hydride-like total density: two electrons in a 1s of charge 2.7 and
+    // one in a 1s of charge 0.7 on Li, one in a hydrogen 1s on H — four electrons, Σ Z = 4.
+    let (li, h) = ([0.0, 0.0, -1.5], [0.0, 0.0, 1.5]);
+    let rho = |r: [f64; 3]| 2.0 * s_density(2.7, li, r) + s_density(0.7, li, r) + s_density(1.0, h, r);
+    std::fs::write(p.join("total.cube"), cube_of("density", 81, 0.2, &[(3, li), (1, h)], rho)).unwrap();
+    std::fs::write(p.join("good.cube"), gaussian_cube(21, 0.5, false, false)).unwrap();
+    // Refused whatever --kind says: a total density is neither kind of one orbital.
+    for kind in ["auto", "density", "amplitude"] {
+        let out = sixray(&["rank", "-f", "json", "--kind", kind, "total.cube", "good.cube"], p);
+        assert_eq!(out.status.code(), Some(2), "{kind}: {}", stderr(&out));
+        let err = stderr(&out);
+        assert!(err.contains("total.cube: a total electron density, not an orbital"), "{err}");
+        assert!(err.contains("sixray inspect total.cube"), "{err}");
+        // ∫ρ over the 8 bohr box: 4 electrons up to the grid's error (0.2 bohr, Z·h = 0.54 at
+        // the core) and what lies outside.
+        let electrons: f64 = err.split("integrate to ").nth(1).and_then(|t| t.split(' ').next()).unwrap().parse().unwrap();
+        assert!((electrons - 4.0).abs() < 0.1, "{err}");
+        let v = json(&out);
+        assert_eq!(v["orbitals"].as_array().unwrap().len(), 1, "the good file is still ranked");
+        assert_eq!(v["failures"][0]["source"], "total.cube");
+    }
+    // The reference densities of the shared set are refused likewise.
+    let Some(shared) = shared_dir("a_total_density_is_refused_with_a_pointer_to_inspect") else { return };
+    let water = shared.join("reference/water/density.cube.gz");
+    let out = sixray(&["rank", "--no-error-bars", water.to_str().unwrap()], p);
+    assert_eq!(out.status.code(), Some(2));
+    assert!(stderr(&out).contains("a total electron density") && stderr(&out).contains("sixray inspect"), "{}", stderr(&out));
+}
+
+#[test]
+fn grids_too_coarse_for_any_number_are_refused() {
+    let dir = tempfile::tempdir().unwrap();
+    let p = dir.path();
+    // The normalised Gaussian on 5 points 2.5 bohr apart, and on 1 bohr steps (the limit).
+    std::fs::write(p.join("coarse.cube"), gaussian_cube(5, 2.5, false, false)).unwrap();
+    std::fs::write(p.join("limit.cube"), gaussian_cube(13, 1.0, false, false)).unwrap();
+    let out = sixray(&["rank", "-f", "json", "coarse.cube"], p);
+    assert_eq!(out.status.code(), Some(2), "{}", stderr(&out));
+    let err = stderr(&out);
+    assert!(err.contains("coarse.cube: grid too coarse") && err.contains("2.500 bohr") && err.contains("5 × 5 × 5"), "{err}");
+    assert!(err.contains("at most 1 bohr"), "{err}");
+    assert!(!err.contains("inspect"), "an orbital titled so is no total density: {err}");
+    assert!(json(&out)["orbitals"].as_array().unwrap().is_empty());
+    let out = sixray(&["rank", "-f", "json", "limit.cube"], p);
+    assert!(out.status.success(), "{}", stderr(&out));
+    // Real cubegen total densities on 5 and 6 points per axis (2.5 bohr steps).
+    let Some(shared) = shared_dir("grids_too_coarse_for_any_number_are_refused") else { return };
+    for (name, step) in [("cubegen_h2o_5points.cube", "2.485"), ("cubegen_ch4_6points.cube", "2.605")] {
+        let f = shared.join("real-world").join(name);
+        let out = sixray(&["rank", f.to_str().unwrap()], p);
+        assert_eq!(out.status.code(), Some(2), "{name}");
+        let err = stderr(&out);
+        assert!(err.contains(&format!("{name}: grid too coarse")) && err.contains(step), "{err}");
+        assert!(err.contains("if it is a total density") && err.contains("sixray inspect"), "{err}");
+    }
+}
+
+#[test]
+fn a_squared_amplitude_sample_is_detected_as_a_density() {
+    use std::io::Read;
+    let dir = tempfile::tempdir().unwrap();
+    let p = dir.path();
+    let mut text = String::new();
+    let sample = samples().join("lithium_hydride/orbital_002.cube.gz");
+    flate2::read::GzDecoder::new(std::fs::File::open(&sample).unwrap()).read_to_string(&mut text).unwrap();
+    // Header: two titles, origin, three axes, two atoms; then the values, squared (the title,
+    // which speaks of an orbital, stays: the values overrule it).
+    let mut lines = text.lines();
+    let mut squared: String = lines.by_ref().take(8).map(|l| format!("{l}\n")).collect();
+    for l in lines {
+        let row: Vec<String> = l.split_whitespace().map(|v| format!("{:14.6E}", v.parse::<f64>().unwrap().powi(2))).collect();
+        squared += &(row.concat() + "\n");
+    }
+    std::fs::write(p.join("squared.cube"), squared).unwrap();
+    let run = |args: &[&str]| {
+        let out = sixray(args, p);
+        assert!(out.status.success(), "{args:?}: {}", stderr(&out));
+        json(&out)["orbitals"][0].clone()
+    };
+    let mut auto = run(&["rank", "-f", "json", "-m", "lsda", "-m", "pbe", "squared.cube"]);
+    let mut given = run(&["rank", "-f", "json", "-m", "lsda", "-m", "pbe", "--kind", "density", "squared.cube"]);
+    assert_eq!((auto["kind"].as_str(), auto["kind_source"].as_str()), (Some("density"), Some("detected")));
+    assert_eq!((given["kind"].as_str(), given["kind_source"].as_str()), (Some("density"), Some("given")));
+    assert_eq!(auto["kind_evidence"]["title"], "amplitude");
+    // Every number the same.
+    for o in [&mut auto, &mut given] {
+        o.as_object_mut().unwrap().remove("kind_source");
+    }
+    assert_eq!(auto, given);
+    // The amplitudes themselves are detected as such.
+    let amplitude = run(&["rank", "-f", "json", sample.to_str().unwrap()]);
+    assert_eq!((amplitude["kind"].as_str(), amplitude["kind_source"].as_str()), (Some("amplitude"), Some("detected")));
+    assert!(amplitude["kind_evidence"]["negative_share"].as_f64().unwrap() > 1e-3);
+}
+
+#[test]
+fn a_file_without_occupied_orbitals_is_a_failure() {
+    let dir = tempfile::tempdir().unwrap();
+    let p = dir.path();
+    // One hydrogen s function, its orbital written with occupation 0 (invented).
+    let molden = "[Molden Format]\n[Atoms] AU\nH 1 1 0.0 0.0 0.0\n[GTO]\n  1 0\ns 1 1.00\n  0.5 1.0\n\n[MO]\n Sym= A\n Ene= 0.5\n Spin= Alpha\n Occup= 0.0\n  1 1.0\n";
+    std::fs::write(p.join("empty.molden"), molden).unwrap();
+    std::fs::write(p.join("full.molden"), molden.replace("Occup= 0.0", "Occup= 1.0")).unwrap();
+    let out = sixray(&["rank", "-f", "json", "empty.molden", "full.molden"], p);
+    assert_eq!(out.status.code(), Some(2), "{}", stderr(&out));
+    let err = stderr(&out);
+    assert!(err.contains("empty.molden: no occupied orbitals: the file lists 1 orbital(s), none occupied: every `Occup=` is 0"), "{err}");
+    let v = json(&out);
+    assert_eq!(v["failures"][0]["source"], "empty.molden");
+    assert_eq!(v["orbitals"].as_array().unwrap().len(), 1);
+    // Localized: the same failure.
+    let out = sixray(&["rank", "--orbitals", "localized", "empty.molden"], p);
+    assert_eq!(out.status.code(), Some(2));
+    assert!(stderr(&out).contains("no occupied orbitals"), "{}", stderr(&out));
+    // A workflow marks the calculation failed, with the reason.
+    std::fs::write(p.join("set.yaml"), "calculations:\n  - name: empty\n    files: [empty.molden]\n  - name: full\n    files: [full.molden]\nmodels: [lsda]\nreport:\n  dir: out\n  formats: [json]\n").unwrap();
+    let run = sixray(&["batch", "set.yaml", "--quiet"], p);
+    assert_eq!(run.status.code(), Some(1), "{}", stderr(&run));
+    let report: Value = serde_json::from_slice(&std::fs::read(p.join("out/report.json")).unwrap()).unwrap();
+    let calcs = report["calculations"].as_array().unwrap();
+    assert_eq!((calcs[0]["status"].as_str(), calcs[1]["status"].as_str()), (Some("failed"), Some("ok")));
+    assert!(calcs[0]["failures"][0]["error"].as_str().unwrap().contains("no occupied orbitals"), "{}", calcs[0]);
+    // The CFOUR file with a d shell only, every occupation 0.
+    let Some(shared) = shared_dir("a_file_without_occupied_orbitals_is_a_failure") else { return };
+    let f = shared.join("real-world/h_donly_sph_cfour.molden");
+    let out = sixray(&["rank", f.to_str().unwrap()], p);
+    assert_eq!(out.status.code(), Some(2));
+    assert!(stderr(&out).contains("h_donly_sph_cfour.molden: no occupied orbitals"), "{}", stderr(&out));
 }

@@ -257,7 +257,7 @@ fn write(dir: &Path, name: &str, text: &str) -> PathBuf {
 }
 
 fn inspect(path: &Path, orbitals: &[PathBuf], kind: Kind) -> sixray::inspect::FileInspection {
-    let load = LoadParams { kind, ..LoadParams::default() };
+    let load = LoadParams { kind: Some(kind), ..LoadParams::default() };
     inspect_file(path, orbitals, &load, &InspectParams::default(), Parallelism::Rayon).unwrap_or_else(|e| panic!("{e}"))
 }
 

@@ -43,6 +43,8 @@ fn orbital(label: &str, spin: Spin, hartree: f64, models: &[(f64, f64)], errors:
         energy: None,
             set: Default::default(),
             input: None,
+        kind: None,
+        kind_origin: None,
     }
 }
 
