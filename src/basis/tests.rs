@@ -54,7 +54,7 @@ fn random_orbitals(basis: &BasisSet, count: usize, seed: u64) -> Vec<Vec<f64>> {
 
 #[test]
 fn normalised_primitives_have_unit_overlap() {
-    for l in 0..=4 {
+    for l in 0..=MAX_L {
         for spherical in [false, true] {
             for a in [0.07, 1.0, 350.0] {
                 let shell = Shell::new([0.3, -0.1, 2.0], l, spherical, vec![a], &[1.0], 0).unwrap();
@@ -399,8 +399,8 @@ fn orbital_norm_by_quadrature() {
 fn bad_shells_are_refused() {
     let e = |r: Result<Shell, BasisError>| r.expect_err("must fail").to_string();
     assert_eq!(
-        e(Shell::new([0.0; 3], 5, true, vec![1.0], &[1.0], 0)),
-        "expected a shell of angular momentum at most 4 (g), found 5"
+        e(Shell::new([0.0; 3], 7, true, vec![1.0], &[1.0], 0)),
+        "expected a shell of angular momentum at most 6 (i), found 7"
     );
     assert_eq!(
         e(Shell::new([0.0; 3], 0, false, vec![1.0, 2.0], &[1.0], 0)),
