@@ -204,7 +204,8 @@ mod tests {
     }
 
     /// Textbook closed forms of the real solid harmonics (up to a positive factor), as the
-    /// format's documentation lists them for d and f (from memory) and the standard g forms.
+    /// format's documentation lists them for d and f (from memory), the standard g forms and
+    /// the extreme and zonal h and i ones.
     #[test]
     fn solid_harmonics_match_closed_forms() {
         let poly = |s: &[(&str, f64)]| -> Vec<([u32; 3], f64)> {
@@ -254,6 +255,34 @@ mod tests {
             (4, -2, poly(&[("xyzz", 6.0), ("xxxy", -1.0), ("xyyy", -1.0)])),
             (4, 1, poly(&[("xzzz", 4.0), ("xxxz", -3.0), ("xyyz", -3.0)])),
             (4, -1, poly(&[("yzzz", 4.0), ("xxyz", -3.0), ("yyyz", -3.0)])),
+            // h0 ∝ 63z⁵ − 70z³r² + 15zr⁴ and i0 ∝ 231z⁶ − 315z⁴r² + 105z²r⁴ − 5r⁶ (r^l times
+            // the Legendre polynomials P5, P6; textbook, from memory), expanded; h±5 and i±6
+            // are the real and imaginary parts of (x + iy)^l.
+            (
+                5,
+                0,
+                poly(&[("zzzzz", 8.0), ("xxzzz", -40.0), ("yyzzz", -40.0), ("xxxxz", 15.0), ("xxyyz", 30.0), ("yyyyz", 15.0)]),
+            ),
+            (5, 5, poly(&[("xxxxx", 1.0), ("xxxyy", -10.0), ("xyyyy", 5.0)])),
+            (5, -5, poly(&[("xxxxy", 5.0), ("xxyyy", -10.0), ("yyyyy", 1.0)])),
+            (
+                6,
+                0,
+                poly(&[
+                    ("zzzzzz", 16.0),
+                    ("xxzzzz", -120.0),
+                    ("yyzzzz", -120.0),
+                    ("xxxxzz", 90.0),
+                    ("xxyyzz", 180.0),
+                    ("yyyyzz", 90.0),
+                    ("xxxxxx", -5.0),
+                    ("xxxxyy", -15.0),
+                    ("xxyyyy", -15.0),
+                    ("yyyyyy", -5.0),
+                ]),
+            ),
+            (6, 6, poly(&[("xxxxxx", 1.0), ("xxxxyy", -15.0), ("xxyyyy", 15.0), ("yyyyyy", -1.0)])),
+            (6, -6, poly(&[("xxxxxy", 6.0), ("xxxyyy", -20.0), ("xyyyyy", 6.0)])),
         ];
         for (l, m, want) in cases {
             let got = solid_harmonic(l, m);
