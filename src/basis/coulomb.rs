@@ -268,19 +268,30 @@ fn shell_pair(
     let mut prims = Vec::new();
     let mut pair = PairExpansion::new();
     for (pa, &ea) in a.exponents.iter().enumerate() {
-        for (pb, &eb) in b.exponents.iter().enumerate() {
+        // Within one shell, primitive pairs (p, q) and (q, p) are the same Gaussian product:
+        // q ≥ p only, with both coefficient products folded into one density.
+        let first = if ia == ib { pa } else { 0 };
+        for (pb, &eb) in b.exponents.iter().enumerate().skip(first) {
             let k_ab = pair.fill(la, lb, ea, a.centre, eb, b.centre);
             if k_ab < PAIR_CUTOFF {
                 continue;
             }
             let a_coef = &a.coefficients[pa * ca.len() * n..(pa + 1) * ca.len() * n];
             let b_coef = &b.coefficients[pb * cb.len() * n..(pb + 1) * cb.len() * n];
+            let mirrored = ia == ib && pb != pa;
             for ka in 0..ca.len() {
                 for kb in 0..cb.len() {
                     let dst = &mut cc[(ka * cb.len() + kb) * n..(ka * cb.len() + kb + 1) * n];
                     let (x, y) = (&a_coef[ka * n..(ka + 1) * n], &b_coef[kb * n..(kb + 1) * n]);
                     for ((d, &x), &y) in dst.iter_mut().zip(x).zip(y) {
                         *d = w * x * y;
+                    }
+                    if mirrored {
+                        // (q, p): c_{q,ka} c_{p,kb}, with a and b the same shell.
+                        let (x, y) = (&b_coef[ka * n..(ka + 1) * n], &a_coef[kb * n..(kb + 1) * n]);
+                        for ((d, &x), &y) in dst.iter_mut().zip(x).zip(y) {
+                            *d += w * x * y;
+                        }
                     }
                 }
             }
