@@ -17,7 +17,10 @@
 //! - Cartesian shells, in the format's order (p: x, y, z; d: xx, yy, zz, xy, xz, yz;
 //!   f: xxx, yyy, zzz, xyy, xxy, xxz, xzz, yzz, yyz, xyz; g: xxxx, yyyy, zzzz, xxxy, xxxz,
 //!   yyyx, yyyz, zzzx, zzzy, xxyy, xxzz, yyzz, xxyz, yyxz, zzxy), each component normalised
-//!   on its own (so xy is not the xx normalisation times xy);
+//!   on its own (so xy is not the xx normalisation times xy). The format defines no Cartesian
+//!   order above g ([`molden_cartesian_order`]); Cartesian h and i shells built in code
+//!   ([`transformation`]) take the internal order, which is also PySCF's (libcint's) Cartesian
+//!   order (`Mole.cart_labels()` of PySCF 2.14: xxxxx, xxxxy, xxxxz, xxxyy, …);
 //! - spherical shells, real solid harmonics in the order m = 0, +1, −1, +2, −2, …, each
 //!   normalised, with the sign convention of the standard real solid harmonics without the
 //!   Condon–Shortley phase (d+1 ∝ xz, d−1 ∝ yz, d+2 ∝ x²−y², d−2 ∝ xy, f+3 ∝ x³−3xy²,
@@ -57,7 +60,13 @@ pub fn cartesian_index([a, b, c]: [u32; 3]) -> usize {
     (before + (l - a - b)) as usize
 }
 
-/// The molden format's Cartesian order for `l ≤ 4` (`None` above: the format defines none).
+/// The molden format's Cartesian order for `l ≤ 4`; `None` above, where neither the format nor
+/// the writers that produce h and i shells define one: PySCF 2.14's writer
+/// (`pyscf/tools/molden.py`, `order_ao_index`) raises "l=5 is not supported" for any shell
+/// above g (its `header` writes h and i shells only with the spherical flags `[5d] [7f] [9g]`),
+/// and IOData's molden reader knows h only as spherical functions, "as PSI4 and ORCA write
+/// them" (theochem/iodata, `iodata/formats/molden.py`). Files with Cartesian h or i shells are
+/// therefore refused rather than read in a guessed order.
 pub fn molden_cartesian_order(l: u32) -> Option<Vec<[u32; 3]>> {
     let parse = |names: &[&str]| -> Vec<[u32; 3]> {
         names
@@ -150,14 +159,22 @@ pub fn molden_m_order(l: u32) -> Vec<i32> {
 }
 
 /// Matrix T (rows: the format's basis functions of the shell; columns: the internal Cartesian
-/// components; row-major) with φ_j = Σ_k T_jk χ_k, every φ_j normalised. `None` for a
-/// Cartesian shell above g (the format defines no order).
+/// components; row-major) with φ_j = Σ_k T_jk χ_k, every φ_j normalised. Cartesian shells
+/// above g, which the format does not define, take the internal order (see the module header).
+/// `None` above [`MAX_L`](super::MAX_L).
 pub fn transformation(l: u32, spherical: bool) -> Option<Vec<f64>> {
+    if l > super::MAX_L {
+        return None;
+    }
     let ncart = cartesian_count(l);
     let rows: Vec<Vec<([u32; 3], f64)>> = if spherical && l >= 2 {
         molden_m_order(l).into_iter().map(|m| solid_harmonic(l, m)).collect()
     } else {
-        molden_cartesian_order(l)?.into_iter().map(|e| vec![(e, 1.0)]).collect()
+        molden_cartesian_order(l)
+            .unwrap_or_else(|| cartesian_components(l))
+            .into_iter()
+            .map(|e| vec![(e, 1.0)])
+            .collect()
     };
     let mut t = vec![0.0; rows.len() * ncart];
     for (j, terms) in rows.iter().enumerate() {
@@ -187,7 +204,8 @@ mod tests {
     }
 
     /// Textbook closed forms of the real solid harmonics (up to a positive factor), as the
-    /// format's documentation lists them for d and f (from memory) and the standard g forms.
+    /// format's documentation lists them for d and f (from memory), the standard g forms and
+    /// the extreme and zonal h and i ones.
     #[test]
     fn solid_harmonics_match_closed_forms() {
         let poly = |s: &[(&str, f64)]| -> Vec<([u32; 3], f64)> {
@@ -237,6 +255,34 @@ mod tests {
             (4, -2, poly(&[("xyzz", 6.0), ("xxxy", -1.0), ("xyyy", -1.0)])),
             (4, 1, poly(&[("xzzz", 4.0), ("xxxz", -3.0), ("xyyz", -3.0)])),
             (4, -1, poly(&[("yzzz", 4.0), ("xxyz", -3.0), ("yyyz", -3.0)])),
+            // h0 ∝ 63z⁵ − 70z³r² + 15zr⁴ and i0 ∝ 231z⁶ − 315z⁴r² + 105z²r⁴ − 5r⁶ (r^l times
+            // the Legendre polynomials P5, P6; textbook, from memory), expanded; h±5 and i±6
+            // are the real and imaginary parts of (x + iy)^l.
+            (
+                5,
+                0,
+                poly(&[("zzzzz", 8.0), ("xxzzz", -40.0), ("yyzzz", -40.0), ("xxxxz", 15.0), ("xxyyz", 30.0), ("yyyyz", 15.0)]),
+            ),
+            (5, 5, poly(&[("xxxxx", 1.0), ("xxxyy", -10.0), ("xyyyy", 5.0)])),
+            (5, -5, poly(&[("xxxxy", 5.0), ("xxyyy", -10.0), ("yyyyy", 1.0)])),
+            (
+                6,
+                0,
+                poly(&[
+                    ("zzzzzz", 16.0),
+                    ("xxzzzz", -120.0),
+                    ("yyzzzz", -120.0),
+                    ("xxxxzz", 90.0),
+                    ("xxyyzz", 180.0),
+                    ("yyyyzz", 90.0),
+                    ("xxxxxx", -5.0),
+                    ("xxxxyy", -15.0),
+                    ("xxyyyy", -15.0),
+                    ("yyyyyy", -5.0),
+                ]),
+            ),
+            (6, 6, poly(&[("xxxxxx", 1.0), ("xxxxyy", -15.0), ("xxyyyy", 15.0), ("yyyyyy", -1.0)])),
+            (6, -6, poly(&[("xxxxxy", 6.0), ("xxxyyy", -20.0), ("xyyyyy", 6.0)])),
         ];
         for (l, m, want) in cases {
             let got = solid_harmonic(l, m);
@@ -261,11 +307,11 @@ mod tests {
     /// the textbook metric (e.g. ⟨xx|yy⟩ = 1/3).
     #[test]
     fn transformations_are_normalised() {
-        for l in 0..=4 {
+        for l in 0..=super::super::MAX_L {
             let comps = cartesian_components(l);
             let n = comps.len();
             for spherical in [false, true] {
-                let t = transformation(l, spherical).expect("l ≤ 4");
+                let t = transformation(l, spherical).expect("l ≤ MAX_L");
                 let rows = t.len() / n;
                 assert_eq!(rows, if spherical && l >= 2 { spherical_count(l) } else { n });
                 for i in 0..rows {
@@ -276,10 +322,12 @@ mod tests {
                                 s += t[i * n + a] * t[j * n + b] * component_overlap(u, v);
                             }
                         }
+                        // Sums of ~ncart² terms of order one: a few hundred ε.
+                        let tol = 512.0 * f64::EPSILON;
                         if i == j {
-                            assert!((s - 1.0).abs() < 1e-13, "l={l} sph={spherical} {i}: {s}");
+                            assert!((s - 1.0).abs() < tol, "l={l} sph={spherical} {i}: {s}");
                         } else if spherical || l < 2 {
-                            assert!(s.abs() < 1e-13, "l={l} sph={spherical} {i},{j}: {s}");
+                            assert!(s.abs() < tol, "l={l} sph={spherical} {i},{j}: {s}");
                         }
                     }
                 }
@@ -287,6 +335,14 @@ mod tests {
         }
         // textbook: ∫x⁴ e^{-2ar²} / ∫x²y² e^{-2ar²} = 3, so the normalised ⟨xx|yy⟩ is 1/3.
         assert!((component_overlap([2, 0, 0], [0, 2, 0]) - 1.0 / 3.0).abs() < 1e-15);
-        assert!(transformation(5, false).is_none());
+        assert!(molden_cartesian_order(5).is_none());
+        assert!(transformation(super::super::MAX_L + 1, true).is_none());
+        // Cartesian rows above g are the internal components, one each.
+        let t = transformation(5, false).expect("h");
+        let n = cartesian_count(5);
+        for (j, row) in t.chunks(n).enumerate() {
+            assert_eq!(row.iter().position(|&x| x != 0.0), Some(j));
+            assert_eq!(row.iter().filter(|&&x| x != 0.0).count(), 1);
+        }
     }
 }

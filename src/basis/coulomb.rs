@@ -7,8 +7,12 @@
 //! the self-energy of the normalised density n_i = |φ_i|² (one electron; multiply by f² for an
 //! orbital holding f electrons).
 //!
-//! Method (McMurchie–Davidson, see [`super::hermite`]): every pair of shells A ≤ B and every
-//! pair of their primitives p becomes a charge distribution expanded in Hermite Gaussians about
+//! Method (McMurchie–Davidson, see [`super::hermite`]): the shells are first merged per centre
+//! and angular momentum over their distinct exponents, each orbital carrying its own coefficient
+//! on every primitive component (the orbital is a sum of primitives whatever the contraction;
+//! generally contracted sets, which molden files write as one shell per contraction over the
+//! same primitives, then cost what their primitives cost). Below, "shell" means such a merged
+//! shell. Every pair of shells A ≤ B and every pair of their primitives p becomes a charge distribution expanded in Hermite Gaussians about
 //! P, with the orbital's density folded in once:
 //!
 //!   ρ^i_p = Σ_tuv D^{i,p}_tuv Λ_tuv,  D^{i,p}_tuv = w_AB Σ_{μ∈A, ν∈B} c_μ c_ν E^{μν}_tuv,
@@ -183,55 +187,127 @@ fn pair_pair(
     }
 }
 
-/// The Hermite densities of shell pair (A, B) for all orbitals (`cart[i]`: orbital i over the
-/// Cartesian components).
+/// The shells of one centre and one l merged over their distinct exponents, with every
+/// orbital's coefficient on each primitive component: a generally contracted set, written as
+/// one shell per contraction over the same primitives, then costs what its primitives cost
+/// rather than contractions² times more.
+struct PrimitiveShell {
+    centre: [f64; 3],
+    l: u32,
+    exponents: Vec<f64>,
+    /// Σ over the merged shells of c_{i,k} · (plain-primitive coefficient of p):
+    /// `[(p · n_cart + k) · n + i]` for primitive p, Cartesian component k, orbital i.
+    coefficients: Vec<f64>,
+}
+
+/// Groups the shells by (centre, l) in order of first appearance; exponents equal to the bit
+/// are one primitive. `cart[i]`: orbital i over the Cartesian components.
+fn primitive_shells(basis: &BasisSet, cart: &[Vec<f64>]) -> Vec<PrimitiveShell> {
+    let n = cart.len();
+    let mut groups: Vec<(PrimitiveShell, Vec<usize>)> = Vec::new();
+    for (k, sh) in basis.shells.iter().enumerate() {
+        let key = |g: &PrimitiveShell| g.l == sh.l && g.centre.map(f64::to_bits) == sh.centre.map(f64::to_bits);
+        let g = match groups.iter().position(|(g, _)| key(g)) {
+            Some(g) => g,
+            None => {
+                let shell = PrimitiveShell { centre: sh.centre, l: sh.l, exponents: Vec::new(), coefficients: Vec::new() };
+                groups.push((shell, Vec::new()));
+                groups.len() - 1
+            }
+        };
+        let (group, members) = &mut groups[g];
+        members.push(k);
+        for &e in &sh.exponents {
+            if !group.exponents.iter().any(|x| x.to_bits() == e.to_bits()) {
+                group.exponents.push(e);
+            }
+        }
+    }
+    let offsets = basis.cartesian_offsets();
+    groups
+        .into_iter()
+        .map(|(mut group, members)| {
+            let nc = cartesian_components(group.l).len();
+            let mut c = vec![0.0; group.exponents.len() * nc * n];
+            for k in members {
+                let sh = &basis.shells[k];
+                for (&e, &r) in sh.exponents.iter().zip(&sh.raw) {
+                    let p = group.exponents.iter().position(|x| x.to_bits() == e.to_bits()).unwrap_or(0);
+                    for comp in 0..nc {
+                        for (i, orbital) in cart.iter().enumerate() {
+                            c[(p * nc + comp) * n + i] += orbital[offsets[k] + comp] * r;
+                        }
+                    }
+                }
+            }
+            group.coefficients = c;
+            group
+        })
+        .collect()
+}
+
+/// The Hermite densities of the pair of primitive shells (A, B) for all `n` orbitals.
 fn shell_pair(
-    basis: &BasisSet,
+    shells: &[PrimitiveShell],
     ia: usize,
     ib: usize,
-    cart: &[Vec<f64>],
+    n: usize,
     index: &HermiteIndex,
     s: &mut Scratch,
 ) -> ShellPair {
-    let n = cart.len();
-    let (a, b) = (&basis.shells[ia], &basis.shells[ib]);
+    let (a, b) = (&shells[ia], &shells[ib]);
     let (la, lb) = (a.l as usize, b.l as usize);
     let l = la + lb;
     let (ca, cb) = (cartesian_components(a.l), cartesian_components(b.l));
-    let (oa, ob) = (basis.cartesian_offsets()[ia], basis.cartesian_offsets()[ib]);
     let w = if ia == ib { 1.0 } else { 2.0 };
     let nh = index.lists[l].len();
     let s_l = l + 1;
     let lookup = &index.lookup[l];
-    // c_μ c_ν per component pair and orbital: [ka][kb][i].
+    // w c_μ c_ν per component pair and orbital for the current primitive pair: [ka][kb][i].
     let mut cc = vec![0.0; ca.len() * cb.len() * n];
-    for (ka, _) in ca.iter().enumerate() {
-        for (kb, _) in cb.iter().enumerate() {
-            for (i, c) in cart.iter().enumerate() {
-                cc[(ka * cb.len() + kb) * n + i] = w * c[oa + ka] * c[ob + kb];
-            }
-        }
-    }
     let mut prims = Vec::new();
     let mut pair = PairExpansion::new();
-    for (&ea, &ra) in a.exponents.iter().zip(&a.raw) {
-        for (&eb, &rb) in b.exponents.iter().zip(&b.raw) {
+    for (pa, &ea) in a.exponents.iter().enumerate() {
+        // Within one shell, primitive pairs (p, q) and (q, p) are the same Gaussian product:
+        // q ≥ p only, with both coefficient products folded into one density.
+        let first = if ia == ib { pa } else { 0 };
+        for (pb, &eb) in b.exponents.iter().enumerate().skip(first) {
             let k_ab = pair.fill(la, lb, ea, a.centre, eb, b.centre);
             if k_ab < PAIR_CUTOFF {
                 continue;
             }
+            let a_coef = &a.coefficients[pa * ca.len() * n..(pa + 1) * ca.len() * n];
+            let b_coef = &b.coefficients[pb * cb.len() * n..(pb + 1) * cb.len() * n];
+            let mirrored = ia == ib && pb != pa;
+            for ka in 0..ca.len() {
+                for kb in 0..cb.len() {
+                    let dst = &mut cc[(ka * cb.len() + kb) * n..(ka * cb.len() + kb + 1) * n];
+                    let (x, y) = (&a_coef[ka * n..(ka + 1) * n], &b_coef[kb * n..(kb + 1) * n]);
+                    for ((d, &x), &y) in dst.iter_mut().zip(x).zip(y) {
+                        *d = w * x * y;
+                    }
+                    if mirrored {
+                        // (q, p): c_{q,ka} c_{p,kb}, with a and b the same shell.
+                        let (x, y) = (&b_coef[ka * n..(ka + 1) * n], &a_coef[kb * n..(kb + 1) * n]);
+                        for ((d, &x), &y) in dst.iter_mut().zip(x).zip(y) {
+                            *d += w * x * y;
+                        }
+                    }
+                }
+            }
             let mut d = vec![0.0; nh * n];
-            let f = ra * rb;
+            let mut any = false;
             for (ka, u) in ca.iter().enumerate() {
                 for (kb, v) in cb.iter().enumerate() {
                     let coef = &cc[(ka * cb.len() + kb) * n..(ka * cb.len() + kb + 1) * n];
                     if coef.iter().all(|&x| x == 0.0) {
                         continue;
                     }
+                    any = true;
                     let (ax, ay, az) = (u[0] as usize, u[1] as usize, u[2] as usize);
                     let (bx, by, bz) = (v[0] as usize, v[1] as usize, v[2] as usize);
                     for t in 0..=ax + bx {
-                        let ex = f * pair.get(0, ax, bx, t);
+                        let ex = pair.get(0, ax, bx, t);
                         for uu in 0..=ay + by {
                             let exy = ex * pair.get(1, ay, by, uu);
                             for vv in 0..=az + bz {
@@ -244,6 +320,9 @@ fn shell_pair(
                         }
                     }
                 }
+            }
+            if !any {
+                continue;
             }
             let mut ds = d.clone();
             for (h, &[t, u, v]) in index.lists[l].iter().enumerate() {
@@ -304,10 +383,11 @@ pub(crate) fn self_energies_in_batches(
     let index = HermiteIndex::new(2 * max_l);
     // The Hermite densities take 16 bytes per orbital, primitive pair and Hermite index; orbitals
     // go through in batches that keep them under MEMORY_BUDGET (one batch for small molecules).
-    let per_orbital: usize = (0..basis.shells.len())
-        .flat_map(|a| (a..basis.shells.len()).map(move |b| (a, b)))
+    let shells = primitive_shells(basis, &[]);
+    let per_orbital: usize = (0..shells.len())
+        .flat_map(|a| (a..shells.len()).map(move |b| (a, b)))
         .map(|(a, b)| {
-            let (x, y) = (&basis.shells[a], &basis.shells[b]);
+            let (x, y) = (&shells[a], &shells[b]);
             x.exponents.len() * y.exponents.len() * index.lists[(x.l + y.l) as usize].len() * 16
         })
         .sum();
@@ -338,7 +418,8 @@ fn batch_self_energies(
 ) -> SelfEnergies {
     let n = coefficients.len();
     let cart: Vec<Vec<f64>> = coefficients.iter().map(|c| basis.to_cartesian(c)).collect();
-    let ns = basis.shells.len();
+    let shells = primitive_shells(basis, &cart);
+    let ns = shells.len();
     let pairs_ab: Vec<(usize, usize)> = (0..ns).flat_map(|a| (a..ns).map(move |b| (a, b))).collect();
     let scratch = || Scratch {
         r: RScratch::new(),
@@ -346,7 +427,7 @@ fn batch_self_energies(
     };
     let pairs: Vec<ShellPair> = par.map(pairs_ab.len(), |k| {
         let (a, b) = pairs_ab[k];
-        shell_pair(basis, a, b, &cart, index, &mut scratch())
+        shell_pair(&shells, a, b, n, index, &mut scratch())
     });
     let rows = par.map(pairs.len(), |x| {
         let mut s = scratch();

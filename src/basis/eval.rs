@@ -101,9 +101,9 @@ fn cartesian_at(basis: &BasisSet, prepared: &[Prepared], r: [f64; 3], val: &mut 
             rad += e;
             drad -= 2.0 * a * e;
         }
-        // Powers 0..=l of each coordinate.
+        // Powers 0..=l of each coordinate (values need l, gradients l − 1).
         let l = s.l as usize;
-        let mut pw = [[1.0f64; 6]; 3];
+        let mut pw = [[1.0f64; super::MAX_L as usize + 1]; 3];
         for (axis, pa) in pw.iter_mut().enumerate() {
             for n in 1..=l {
                 pa[n] = pa[n - 1] * d[axis];

@@ -47,8 +47,8 @@ use convention::{CartesianScale, HarmonicSigns, PrimitiveScale};
 pub use eval::OrbitalValues;
 pub use orbitals::{MolecularOrbitals, Orbital, OrbitalSpin};
 
-/// Highest angular momentum supported (g).
-pub const MAX_L: u32 = 4;
+/// Highest angular momentum supported (i).
+pub const MAX_L: u32 = 6;
 
 /// A basis set or orbital set that cannot be built: where and why.
 #[derive(Debug, thiserror::Error)]
@@ -122,7 +122,7 @@ pub struct Shell {
 
 impl Shell {
     /// A shell from exponents (bohr⁻², > 0) and contraction coefficients of normalised
-    /// primitives. Errors for l above g, mismatched or empty lists, non-positive exponents or a
+    /// primitives. Errors for l above [`MAX_L`] (i), mismatched or empty lists, non-positive exponents or a
     /// contraction of zero norm.
     pub fn new(
         centre: [f64; 3],
@@ -134,7 +134,7 @@ impl Shell {
     ) -> Result<Shell, BasisError> {
         if l > MAX_L {
             return Err(BasisError::plain(format!(
-                "expected a shell of angular momentum at most {MAX_L} (g), found {l}"
+                "expected a shell of angular momentum at most {MAX_L} (i), found {l}"
             )));
         }
         if exponents.is_empty() || exponents.len() != coefficients.len() {
@@ -336,6 +336,10 @@ pub struct BasisSet {
 }
 
 /// Whether d, f and g shells are spherical, from the flag sections as written.
+///
+/// h and i shells follow g: there are no flags of their own (PySCF 2.14's `molden.header`
+/// writes `[5d] [7f] [9g]` for spherical shells of any l, and IOData's reader takes `[9g]` to
+/// cover h "as PSI4 and ORCA write them"; theochem/iodata, `iodata/formats/molden.py`).
 fn spherical_flags(m: &MoldenFile) -> Result<[bool; 3], BasisError> {
     // Per l = 2, 3, 4: the setting and the line that made it.
     let mut set: [Option<(bool, usize)>; 3] = [None; 3];
@@ -392,8 +396,9 @@ impl BasisSet {
     }
 
     /// The basis set of a parsed molden file: positions to bohr, shells normalised, d/f/g
-    /// Cartesian or spherical as its flags say (Cartesian without flags), `sp` shells split
-    /// into an s and a p shell. Errors name the file and line.
+    /// Cartesian or spherical as its flags say (Cartesian without flags), h and i spherical
+    /// under `[9G]` (Cartesian h and i are refused: the format defines no order for them), `sp`
+    /// shells split into an s and a p shell. Errors name the file and line.
     pub fn from_molden(m: &MoldenFile) -> Result<BasisSet, BasisError> {
         Self::from_molden_with(m, &Convention::MOLDEN)
     }
@@ -498,14 +503,28 @@ impl BasisSet {
                             return Err(BasisError::at(
                                 path,
                                 Some(s.line),
-                                format!("expected a shell of type s, p, sp, d, f or g, found {}", t.letters()),
+                                format!(
+                                    "expected a shell of type s, p, sp, d, f, g, h or i, found {}",
+                                    t.letters()
+                                ),
+                            ));
+                        }
+                        if l > 4 && !spherical[2] {
+                            return Err(BasisError::at(
+                                path,
+                                Some(s.line),
+                                format!(
+                                    "expected spherical {} functions (flag [9G]): the format defines no Cartesian order above g",
+                                    t.letters()
+                                ),
                             ));
                         }
                         vec![(l, s.primitives.iter().map(|p| p.coefficient).collect())]
                     }
                 };
                 for (l, coefficients) in parts {
-                    let sph = l >= 2 && spherical.get(l as usize - 2).copied().unwrap_or(false);
+                    // h and i follow g (see `spherical_flags`).
+                    let sph = l >= 2 && spherical[(l as usize).min(4) - 2];
                     let shell = convention_shell(convention, centre, l, sph, exponents.clone(), &coefficients, atom)
                         .map_err(|e| match e {
                             BasisError::Invalid { message, .. } => BasisError::at(path, Some(s.line), message),

@@ -39,6 +39,20 @@ fn mixed_basis(spherical: bool) -> BasisSet {
     BasisSet::new(Vec::new(), shells)
 }
 
+/// A small basis with h and i shells (contracted h, uncontracted i) on two centres, and an s and
+/// a p shell so that mixed pairs occur.
+fn high_basis(spherical: bool) -> BasisSet {
+    let a = [0.1, -0.2, 0.05];
+    let b = [1.0, 0.5, -0.6];
+    let shells = vec![
+        Shell::new(a, 0, false, vec![2.1, 0.45], &[0.5, 0.4], 0).unwrap(),
+        Shell::new(b, 1, false, vec![0.9], &[1.0], 1).unwrap(),
+        Shell::new(a, 5, spherical, vec![1.6, 0.5], &[0.6, 0.5], 0).unwrap(),
+        Shell::new(b, 6, spherical, vec![0.9], &[1.0], 1).unwrap(),
+    ];
+    BasisSet::new(Vec::new(), shells)
+}
+
 fn random_orbitals(basis: &BasisSet, count: usize, seed: u64) -> Vec<Vec<f64>> {
     let mut rng = Lcg(seed);
     let s = basis.overlap_matrix();
@@ -54,7 +68,7 @@ fn random_orbitals(basis: &BasisSet, count: usize, seed: u64) -> Vec<Vec<f64>> {
 
 #[test]
 fn normalised_primitives_have_unit_overlap() {
-    for l in 0..=4 {
+    for l in 0..=MAX_L {
         for spherical in [false, true] {
             for a in [0.07, 1.0, 350.0] {
                 let shell = Shell::new([0.3, -0.1, 2.0], l, spherical, vec![a], &[1.0], 0).unwrap();
@@ -168,11 +182,18 @@ fn gaussian_density_self_energy() {
 }
 
 /// The fast engine against the plain contraction ½ Σ (μν|λσ) c_μ c_ν c_λ c_σ over every
-/// shell quartet, on a basis with every shell type to g, Cartesian and spherical.
+/// shell quartet, on a basis with every shell type to g and one with an h shell, Cartesian and
+/// spherical. (The i shell is left out: the plain integrals over Cartesian (ii|ii) take
+/// minutes; the comparison with PySCF in tests/integration/basis.rs covers i.)
 #[test]
 fn engine_matches_plain_integrals() {
-    for spherical in [true, false] {
-        let basis = mixed_basis(spherical);
+    // One primitive in the h shell: the plain quartet loop costs 16 times less than with two.
+    let with_h = |s: bool| {
+        let mut shells = high_basis(s).shells[..2].to_vec();
+        shells.push(Shell::new([0.1, -0.2, 0.05], 5, s, vec![0.8], &[1.0], 0).unwrap());
+        BasisSet::new(Vec::new(), shells)
+    };
+    for (spherical, basis) in [true, false].into_iter().flat_map(|s| [(s, mixed_basis(s)), (s, with_h(s))]) {
         let orbitals = random_orbitals(&basis, 3, 11);
         let refs: Vec<&[f64]> = orbitals.iter().map(|c| c.as_slice()).collect();
         let params = CoulombParams { screening: 0.0 };
@@ -315,8 +336,7 @@ fn results_do_not_depend_on_threads() {
 
 #[test]
 fn gradients_match_differences_and_orbitals_match_functions() {
-    for spherical in [true, false] {
-        let basis = mixed_basis(spherical);
+    for (spherical, basis) in [true, false].into_iter().flat_map(|s| [(s, mixed_basis(s)), (s, high_basis(s))]) {
         let n = basis.function_count();
         let points = [[0.3, -0.2, 0.4], [1.0, 0.5, -0.5], [-0.7, 1.4, 0.8], [2.5, -1.0, 1.5]];
         let (v, g) = basis.values_and_gradients(&points, Parallelism::Sequential);
@@ -399,8 +419,8 @@ fn orbital_norm_by_quadrature() {
 fn bad_shells_are_refused() {
     let e = |r: Result<Shell, BasisError>| r.expect_err("must fail").to_string();
     assert_eq!(
-        e(Shell::new([0.0; 3], 5, true, vec![1.0], &[1.0], 0)),
-        "expected a shell of angular momentum at most 4 (g), found 5"
+        e(Shell::new([0.0; 3], 7, true, vec![1.0], &[1.0], 0)),
+        "expected a shell of angular momentum at most 6 (i), found 7"
     );
     assert_eq!(
         e(Shell::new([0.0; 3], 0, false, vec![1.0, 2.0], &[1.0], 0)),
@@ -417,12 +437,12 @@ fn bad_shells_are_refused() {
 }
 
 /// Dipole integrals against quadrature of φ_μ φ_ν r on a fine atom-centred grid, for every pair
-/// of functions of the mixed basis (s to g, spherical and Cartesian, three centres).
+/// of functions of the mixed basis (s to g, spherical and Cartesian, three centres) and of the
+/// basis with h and i shells.
 #[test]
 fn dipole_integrals_match_quadrature() {
     use crate::molgrid::{GridAtom, GridLevel, MolecularGrid};
-    for spherical in [false, true] {
-        let basis = mixed_basis(spherical);
+    for (spherical, basis) in [false, true].into_iter().flat_map(|s| [(s, mixed_basis(s)), (s, high_basis(s))]) {
         let n = basis.function_count();
         let centres = [[0.1, -0.2, 0.05], [1.3, 0.4, -0.7], [-0.6, 1.1, 0.9]];
         let atoms: Vec<GridAtom> = centres.iter().map(|&position| GridAtom { position, atomic_number: 6 }).collect();

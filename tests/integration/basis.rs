@@ -1,6 +1,6 @@
 //! The Gaussian-basis path against external references: every occupied orbital of the shared
 //! reference set (PySCF 2.14 molden files, exact J from libcint integrals) and the project's
-//! own PySCF-written files with g and Cartesian shells (tests/data/basis).
+//! own PySCF-written files with g and Cartesian shells, and h and i shells (tests/data/basis).
 //!
 //! `cargo test --release --test integration basis -- --nocapture` prints the per-orbital table.
 
@@ -129,6 +129,110 @@ fn g_shells_and_cartesian_shells() {
         assert_eq!(basis.function_count() as u64, reference["nao"].as_u64().expect("nao"));
         assert!(basis.shells.iter().any(|s| s.l == 4));
         check(name, &dir.join(format!("{name}.molden")), &reference);
+    }
+}
+
+/// J relative to the reference: the brief's 1e-8 (both sides are exact integrals).
+const J_RELATIVE: f64 = 1e-8;
+
+/// Compares J and cᵀSc of each coefficient vector with the reference entries, in order.
+fn compare_relative(name: &str, basis: &BasisSet, coefficients: &[&[f64]], entries: &[serde_json::Value]) {
+    assert_eq!(entries.len(), coefficients.len(), "{name}: orbitals");
+    let s = basis.overlap_matrix();
+    let result = self_energies_with(basis, coefficients, CoulombParams::default(), Parallelism::Rayon);
+    let mut out = std::io::stderr();
+    for (k, (c, entry)) in coefficients.iter().zip(entries).enumerate() {
+        let want = entry["hartree_self"].as_f64().expect("hartree_self");
+        let got = result.hartree[k];
+        let rel = (got - want) / want;
+        let norm = basis.norm_squared(&s, c) - 1.0;
+        let _ = writeln!(
+            out,
+            "{name:>17} {:>3}  J = {got:.12}  ref {want:.12}  ΔJ/J = {rel:+.2e}  norm−1 = {norm:+.2e}",
+            k + 1
+        );
+        assert!(rel.abs() < J_RELATIVE, "{name} {}: J = {got}, reference {want}", k + 1);
+        assert!(norm.abs() < NORM_TOLERANCE, "{name} {}: norm − 1 = {norm:e}", k + 1);
+        assert!(result.screening_bound[k] < 1e-9 * want);
+    }
+}
+
+// reference: PySCF 2.14.0 / libcint, tests/data/basis/generate_high_l.py: spherical h and i
+// shells, contracted and uncontracted, on both atoms of a constructed O–H fragment (high_l.*)
+#[test]
+fn h_and_i_shells_spherical() {
+    let dir = PathBuf::from(env!("CARGO_MANIFEST_DIR")).join("tests/data/basis");
+    let reference = json(&dir.join("high_l.json"));
+    let (basis, mos) = basis::read(&dir.join("high_l.molden")).unwrap_or_else(|e| panic!("{e}"));
+    assert_eq!(basis.function_count() as u64, reference["nao"].as_u64().expect("nao"));
+    for l in [5, 6] {
+        let shells: Vec<_> = basis.shells.iter().filter(|s| s.l == l).collect();
+        assert!(shells.iter().all(|s| s.spherical), "l = {l} must be spherical under [9g]");
+        assert!(shells.iter().any(|s| s.exponents.len() == 1) && shells.iter().any(|s| s.exponents.len() > 1));
+    }
+    let coefficients: Vec<&[f64]> = mos.occupied().map(|o| o.coefficients.as_slice()).collect();
+    compare_relative("high_l", &basis, &coefficients, reference["orbitals"].as_array().expect("orbitals"));
+}
+
+// reference: PySCF 2.14.0 / libcint, tests/data/basis/generate_high_l.py: Cartesian h and i
+// shells (the basis as data: the molden format has no Cartesian order above g), coefficients
+// over the normalised Cartesian functions in PySCF's order (high_l_cartesian.json)
+#[test]
+fn h_and_i_shells_cartesian() {
+    let dir = PathBuf::from(env!("CARGO_MANIFEST_DIR")).join("tests/data/basis");
+    let reference = json(&dir.join("high_l_cartesian.json"));
+    let centres: Vec<[f64; 3]> = reference["centres_bohr"]
+        .as_array()
+        .expect("centres")
+        .iter()
+        .map(|c| [0, 1, 2].map(|d| c[d].as_f64().expect("coordinate")))
+        .collect();
+    let numbers = |v: &serde_json::Value| -> Vec<f64> {
+        v.as_array().expect("list").iter().map(|x| x.as_f64().expect("number")).collect()
+    };
+    let shells: Vec<basis::Shell> = reference["shells"]
+        .as_array()
+        .expect("shells")
+        .iter()
+        .map(|s| {
+            let atom = s["atom"].as_u64().expect("atom") as usize;
+            let l = s["l"].as_u64().expect("l") as u32;
+            basis::Shell::new(centres[atom], l, false, numbers(&s["exponents"]), &numbers(&s["coefficients"]), atom)
+                .unwrap_or_else(|e| panic!("{e}"))
+        })
+        .collect();
+    assert!(shells.iter().any(|s| s.l == 5) && shells.iter().any(|s| s.l == 6));
+    let basis = BasisSet::new(Vec::new(), shells);
+    assert_eq!(basis.function_count() as u64, reference["nao"].as_u64().expect("nao"));
+    let entries = reference["orbitals"].as_array().expect("orbitals");
+    let vectors: Vec<Vec<f64>> = entries.iter().map(|e| numbers(&e["coefficients"])).collect();
+    let coefficients: Vec<&[f64]> = vectors.iter().map(Vec::as_slice).collect();
+    compare_relative("high_l_cartesian", &basis, &coefficients, entries);
+}
+
+/// h and i shells are spherical under [9G] and refused without it (no Cartesian order above g
+/// in the format); shells above i are refused by type.
+#[test]
+fn h_and_i_flags() {
+    let file = |shell: &str, flags: &str| {
+        format!("[Atoms] AU\nX 1 6 0.0 0.0 1.0\n[GTO]\n1 0\n s 1 1.0\n 1.0 1.0\n {shell} 1 1.0\n 0.7 1.0\n\n{flags}\n")
+    };
+    let build = |text: String| {
+        let m = sixray_parsers::parse_molden(text.as_bytes(), Path::new("hi.molden")).unwrap_or_else(|e| panic!("{e}"));
+        BasisSet::from_molden(&m)
+    };
+    for (shell, count) in [("h", 11), ("i", 13)] {
+        for flags in ["[9G]", "[5D]\n[7F]\n[9G]"] {
+            let b = build(file(shell, flags)).unwrap_or_else(|e| panic!("{e}"));
+            assert_eq!(b.shells[1].function_count(), count, "{shell} {flags:?}");
+        }
+        for flags in ["", "[5D7F]", "[15G]"] {
+            let err = build(file(shell, flags)).expect_err("Cartesian h/i").to_string();
+            assert_eq!(
+                err,
+                format!("hi.molden:7: expected spherical {shell} functions (flag [9G]): the format defines no Cartesian order above g")
+            );
+        }
     }
 }
 

@@ -3,7 +3,7 @@
 //! each is read with an orthonormal occupied set or refused with a reason, and the same
 //! molecule written by different programs gives the same J.
 
-use crate::common::shared_dir;
+use crate::common::{number, shared_dir, sixray, stderr};
 use sixray::basis::coulomb::self_energies;
 use sixray::basis::{BasisSet, MolecularOrbitals, read_checked};
 use sixray::par::Parallelism;
@@ -98,5 +98,38 @@ fn the_format_convention_alone_would_not_fit_these_writers() {
         assert!(check.max_deviation > 1e-4, "{name}: {:e}", check.max_deviation);
         let (_, _, c) = read_checked(Path::new(&path)).expect("reads");
         assert_ne!(c.convention, sixray::basis::Convention::MOLDEN.name(), "{name}");
+    }
+}
+
+/// The whole folder through `rank`, as a user would give it: every file is analysed, with an
+/// orthonormal occupied set where it has a basis, or refused with exit 2 and a message naming it.
+/// The files refused are exactly the ones that cannot give a number.
+#[test]
+fn every_real_world_file_is_analysed_or_refused_by_rank() {
+    let Some(dir) = shared_dir("every_real_world_file_is_analysed_or_refused_by_rank") else { return };
+    let tmp = tempfile::tempdir().unwrap();
+    let mut files: Vec<_> =
+        std::fs::read_dir(dir.join("real-world")).expect("real-world folder").map(|e| e.expect("entry").path()).collect();
+    files.sort();
+    // reference: the files themselves: broken on purpose, no occupied orbital (every Occup= 0),
+    // or cube grids of 2.5–2.6 bohr steps.
+    let refused = ["h2o_error.wfx", "h_donly_sph_cfour.molden", "h_fonly_cart_cfour.molden", "h_gonly_sph_cfour.molden", "cubegen_h2o_5points.cube", "cubegen_ch4_6points.cube"];
+    for path in files {
+        let name = path.file_name().unwrap().to_string_lossy().into_owned();
+        let out = sixray(&["rank", "-f", "json", "--grid-level", "coarse", "--no-error-bars", path.to_str().unwrap()], tmp.path());
+        if refused.contains(&name.as_str()) {
+            assert_eq!(out.status.code(), Some(2), "{name} should be refused");
+            assert!(stderr(&out).contains(&name), "{name}: {}", stderr(&out));
+            continue;
+        }
+        assert_eq!(out.status.code(), Some(0), "{name}: {}", stderr(&out));
+        let report: serde_json::Value = serde_json::from_slice(&out.stdout).expect("json");
+        let orbitals = report["orbitals"].as_array().expect("orbitals");
+        assert!(!orbitals.is_empty(), "{name}");
+        for o in orbitals {
+            let dev = number(&o["input"]["orthonormality"]);
+            assert!(dev <= 1e-6, "{name}: {dev:e}");
+            assert!(number(&o["hartree"]) > 0.0 && number(&o["norm"]) > 0.99, "{name}: {o}");
+        }
     }
 }
