@@ -8,7 +8,7 @@ use std::path::{Path, PathBuf};
 use sixray_parsers::{FileFormat, sniff_format};
 
 use super::fchk::Provenance;
-use super::{BasisSet, MAX_L, MolecularOrbitals, OrbitalSpin, aim, coulomb, fchk};
+use super::{BasisSet, MolecularOrbitals, OrbitalSpin, aim, coulomb, fchk};
 use crate::par::Parallelism;
 
 fn real_world(test: &str) -> Option<PathBuf> {
@@ -85,12 +85,11 @@ fn water_fchk_and_wfn_agree() {
 }
 
 #[test]
-#[ignore = "needs l = 5 (h) support"]
 fn helium_spdfgh_fchk_and_wfn_agree() {
     fchk_and_wfn_agree("he_spdfgh_orbital.fchk", "he_spdfgh_orbital.wfn", "helium_spdfgh_fchk_and_wfn_agree");
 }
 
-/// Every real-world orbital file the engine can represent (all but the h-function pair).
+/// Every real-world fchk, wfn and wfx file that holds a calculation (all but the broken wfx).
 const READABLE: [&str; 13] = [
     "h2o_sto3g.fchk",
     "ch3_rohf_sto3g_g03.fchk",
@@ -111,10 +110,6 @@ const READABLE: [&str; 13] = [
 fn occupied_orbitals_are_orthonormal() {
     let Some(dir) = real_world("occupied_orbitals_are_orthonormal") else { return };
     for name in READABLE {
-        if name.starts_with("he_spdfgh") && MAX_L < 5 {
-            eprintln!("{name}: skipped, needs l = 5");
-            continue;
-        }
         let (basis, orbitals, _) = load(&dir.join(name));
         let err = orthonormality_error(&basis, &orbitals);
         eprintln!("{name}: max |C^T S C - I| = {err:.2e}");

@@ -5,8 +5,8 @@ two-atom fragment of our own (O and H positions, with added h and i shells: cont
 uncontracted on each atom) it writes
 
   * high_l.molden: spherical basis (cc-pVDZ plus the h and i shells) and three invented
-    orbitals with order-one coefficients on every function, each normalised with the exact
-    overlap. PySCF's molden writer refuses l >= 5 (`order_ao_index` raises "l=5 is not
+    orbitals with order-one coefficients on every function, made orthonormal (Loewdin) with
+    the exact overlap. PySCF's molden writer refuses l >= 5 (`order_ao_index` raises "l=5 is not
     supported"), so only its `header` is used (with ignore_h=False it writes the h and i
     shells and the flags [5d] [7f] [9g]); the [MO] section is written here in the format's
     spherical order m = 0, +1, -1, ..., +l, -l (PySCF's own order is m = -l..l).
@@ -77,7 +77,8 @@ def spherical_case(outdir):
     rng = np.random.default_rng(56)
     s = mol.intor("int1e_ovlp")
     c = rng.uniform(-1.0, 1.0, size=(mol.nao, 3))
-    c = c / np.sqrt(np.einsum("mi,mn,ni->i", c, s, c))
+    w, v = np.linalg.eigh(c.T @ s @ c)  # orthonormal (Loewdin), as a program's orbitals are
+    c = c @ (v @ np.diag(w ** -0.5) @ v.T)
     idx = molden_order(mol)
     with open(os.path.join(outdir, "high_l.molden"), "w") as fh:
         molden.header(mol, fh, ignore_h=False)
@@ -106,7 +107,8 @@ def cartesian_case(outdir):
     rng = np.random.default_rng(57)
     s = mol.intor("int1e_ovlp")
     c = rng.uniform(-1.0, 1.0, size=(mol.nao, 3))
-    c = c / np.sqrt(np.einsum("mi,mn,ni->i", c, s, c))
+    w, v = np.linalg.eigh(c.T @ s @ c)  # orthonormal (Loewdin), as a program's orbitals are
+    c = c @ (v @ np.diag(w ** -0.5) @ v.T)
     # PySCF's Cartesian functions are not normalised (only x^l is): coefficients over the
     # normalised functions are c * sqrt(S_mm).
     c_normalised = c * np.sqrt(np.diag(s))[:, None]
