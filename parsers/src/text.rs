@@ -10,7 +10,7 @@ use crate::cube::{GZIP_MAGIC, open_text};
 /// Largest accepted text size (after decompression), in bytes; the whole text is held in memory.
 pub const MAX_TEXT_BYTES: u64 = 1 << 32;
 
-/// The kinds of failure of the fchk, wfn and wfx readers. `found` strings are excerpts of the
+/// The kinds of failure of the molden, fchk, wfn and wfx readers. `found` strings are excerpts of the
 /// input, already quoted and shortened (or a phrase such as `end of line`).
 #[derive(Debug, thiserror::Error)]
 pub enum TextErrorKind {

@@ -68,15 +68,7 @@ pub fn cartesian_index([a, b, c]: [u32; 3]) -> usize {
 /// them" (theochem/iodata, `iodata/formats/molden.py`). Files with Cartesian h or i shells are
 /// therefore refused rather than read in a guessed order.
 pub fn molden_cartesian_order(l: u32) -> Option<Vec<[u32; 3]>> {
-    let parse = |names: &[&str]| -> Vec<[u32; 3]> {
-        names
-            .iter()
-            .map(|n| {
-                let count = |c: char| n.chars().filter(|&x| x == c).count() as u32;
-                [count('x'), count('y'), count('z')]
-            })
-            .collect()
-    };
+    let parse = components_named;
     Some(match l {
         0 => vec![[0, 0, 0]],
         1 => parse(&["x", "y", "z"]),
@@ -88,6 +80,17 @@ pub fn molden_cartesian_order(l: u32) -> Option<Vec<[u32; 3]>> {
         ]),
         _ => return None,
     })
+}
+
+/// Exponent triples of component names such as `xxy` (letters counted, order ignored).
+pub(crate) fn components_named(names: &[&str]) -> Vec<[u32; 3]> {
+    names
+        .iter()
+        .map(|n| {
+            let count = |c: char| n.chars().filter(|&x| x == c).count() as u32;
+            [count('x'), count('y'), count('z')]
+        })
+        .collect()
 }
 
 /// (2n − 1)!! as a float; 1 for n = 0 (and for the (−1)!! of odd-free sums).

@@ -69,15 +69,7 @@ impl From<FchkError> for BasisError {
 
 /// Gaussian's Cartesian component order for angular momentum `l` (see the module header).
 pub fn gaussian_cartesian_order(l: u32) -> Vec<[u32; 3]> {
-    let parse = |names: &[&str]| -> Vec<[u32; 3]> {
-        names
-            .iter()
-            .map(|n| {
-                let count = |c: char| n.chars().filter(|&x| x == c).count() as u32;
-                [count('x'), count('y'), count('z')]
-            })
-            .collect()
-    };
+    let parse = super::angular::components_named;
     match l {
         0 => vec![[0, 0, 0]],
         1 => parse(&["x", "y", "z"]),

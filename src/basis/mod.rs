@@ -133,9 +133,7 @@ impl Shell {
         atom: usize,
     ) -> Result<Shell, BasisError> {
         if l > MAX_L {
-            return Err(BasisError::plain(format!(
-                "expected a shell of angular momentum at most {MAX_L} (i), found {l}"
-            )));
+            return Err(BasisError::plain(format!("expected a shell of angular momentum at most {MAX_L} (i), found {l}")));
         }
         if exponents.is_empty() || exponents.len() != coefficients.len() {
             return Err(BasisError::plain(format!(
@@ -144,34 +142,17 @@ impl Shell {
                 exponents.len()
             )));
         }
-        if let Some(a) = exponents.iter().find(|a| !(a.is_finite() && **a > 0.0)) {
-            return Err(BasisError::plain(format!("expected positive exponents, found {a}")));
-        }
-        let spherical = spherical && l >= 2;
-        let to_cartesian = angular::transformation(l, spherical)
+        let to_cartesian = angular::transformation(l, spherical && l >= 2)
             .ok_or_else(|| BasisError::plain(format!("no component order for l = {l}")))?;
-        let mut raw: Vec<f64> = exponents
-            .iter()
-            .zip(coefficients)
-            .map(|(&a, &d)| d * primitive_norm(l, a))
-            .collect();
+        let mut raw: Vec<f64> = exponents.iter().zip(coefficients).map(|(&a, &d)| d * primitive_norm(l, a)).collect();
         let norm2 = contraction_norm2(l, &exponents, &raw);
-        if !(norm2.is_finite() && norm2 > 0.0) {
-            return Err(BasisError::plain(format!(
-                "expected a contraction of non-zero norm, found norm² {norm2:e}"
-            )));
+        // Checked after from_parts' own checks would be too late: a zero norm divides here.
+        if exponents.iter().all(|a| a.is_finite() && *a > 0.0) && !(norm2.is_finite() && norm2 > 0.0) {
+            return Err(BasisError::plain(format!("expected a contraction of non-zero norm, found norm² {norm2:e}")));
         }
         let scale = 1.0 / norm2.sqrt();
         raw.iter_mut().for_each(|r| *r *= scale);
-        Ok(Shell {
-            centre,
-            l,
-            spherical,
-            exponents,
-            atom,
-            raw,
-            to_cartesian,
-        })
+        Shell::from_parts(centre, l, spherical, exponents, raw, to_cartesian, atom)
     }
 
     /// A shell from its parts as a reader has decided them: `raw`, the coefficients of the plain
