@@ -176,6 +176,9 @@ pub fn run(args: RankArgs) -> anyhow::Result<Status> {
     if args.fail_above.is_some_and(|t| !(t.is_finite() && t >= 0.0)) {
         bail!("--fail-above must be a non-negative number");
     }
+    if args.top == Some(0) {
+        bail!("--top must be at least 1 (an empty table shows nothing; leave --top out to show every orbital)");
+    }
     if args.uniform_grid.is_some_and(|h| !(h.is_finite() && h >= MIN_UNIFORM_SPACING)) {
         bail!("--grid must be a spacing of at least {MIN_UNIFORM_SPACING} bohr");
     }
@@ -254,7 +257,7 @@ pub fn run(args: RankArgs) -> anyhow::Result<Status> {
         let over: Vec<_> = outcomes
             .iter()
             .flat_map(|(_, o)| &o.ranking.orbitals)
-            .filter(|o| o.models[rank_by].self_interaction.abs() * args.units.per_hartree() > limit)
+            .filter(|o| above(o.models[rank_by].self_interaction * args.units.per_hartree(), limit))
             .collect();
         if !over.is_empty() {
             eprintln!("sixray: {} orbital(s) with |δ| above {limit} {} under {}:", over.len(), args.units.symbol(), model.name);
@@ -308,5 +311,25 @@ fn render(reports: &[(OrbitalSet, Report)], format: Format, units: EnergyUnit) -
             };
             reports.iter().map(|(set, r)| heading(*set) + &one(r)).collect::<Vec<_>>().join("\n")
         }
+    }
+}
+
+/// Whether |δ| fails the gate at `limit` (both in the report's unit). A δ that is not a number
+/// fails it: a gate must never pass what it cannot compare.
+fn above(delta: f64, limit: f64) -> bool {
+    delta.is_nan() || delta.abs() > limit
+}
+
+#[cfg(test)]
+mod tests {
+    use super::above;
+
+    #[test]
+    fn the_gate_fails_what_is_not_a_number() {
+        assert!(above(f64::NAN, 100.0));
+        assert!(above(f64::INFINITY, 100.0));
+        assert!(above(-2.0, 1.0));
+        assert!(!above(-1.0, 1.0));
+        assert!(!above(0.5, 1.0));
     }
 }

@@ -27,6 +27,14 @@ pub enum InspectError {
         /// What is wrong with the grid.
         source: GridError,
     },
+    /// The file is not a grid file at all (a basis-set file, or none sixray reads).
+    #[error("{}: expected a total-density cube file, found {found}", path.display())]
+    NotCube {
+        /// The file.
+        path: PathBuf,
+        /// What the file is instead.
+        found: String,
+    },
     /// The file stores several values per point (orbitals), not one density.
     #[error("{}:3: {count} values per grid point (the atom-count line); a total density has one", path.display())]
     Components {
@@ -60,6 +68,18 @@ pub struct DensityGrid {
 
 /// Reads a total-density grid file (cube format, plain or gzip-compressed).
 pub fn load_density(path: &Path, read: &ReadParams) -> Result<DensityGrid, InspectError> {
+    // Tell a basis-set file (or a foreign one) apart before the cube reader trips on its second
+    // line; a file that cannot even be opened is left to the cube reader's message.
+    if let Ok(format) = sixray_parsers::sniff_format(path) {
+        let found = match format {
+            sixray_parsers::FileFormat::Cube => None,
+            sixray_parsers::FileFormat::Unknown { start } => Some(format!("a file of no format sixray reads (it starts with {start})")),
+            other => Some(format!("a {} basis-set file: give it to `sixray rank`, which analyses its orbitals exactly", other.name())),
+        };
+        if let Some(found) = found {
+            return Err(InspectError::NotCube { path: path.to_path_buf(), found });
+        }
+    }
     let file = read_cube(path, read)?;
     let (geometry, atoms) = geometry_of(&file.header).map_err(|source| InspectError::Grid { path: path.to_path_buf(), source })?;
     let count = file.fields.len();

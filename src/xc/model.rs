@@ -44,8 +44,8 @@ pub enum ModelError {
         /// Comma-separated known names.
         known: String,
     },
-    /// `xalpha` with an α that is not a positive finite number.
-    #[error("`{spec}`: α must be a positive number, e.g. xalpha=0.7")]
+    /// `xalpha` with an α outside (0, [`MAX_ALPHA`]].
+    #[error("`{spec}`: α must be a number above 0 and at most 2, e.g. xalpha=0.7")]
     BadAlpha {
         /// What was given.
         spec: String,
@@ -122,12 +122,22 @@ fn known_ids(part: Part) -> String {
     ids.join(", ")
 }
 
+/// Largest Xα value accepted: α = 2/3 is the exact exchange of the uniform gas and α = 1
+/// Slater's; the values that cancel an orbital's J lie between them (about 0.7–0.8 on the
+/// shared reference set), so twice Slater's already describes no model in use, and larger
+/// values only hide a typing error.
+pub const MAX_ALPHA: f64 = 2.0;
+
+fn alpha_in_range(alpha: f64) -> bool {
+    alpha.is_finite() && alpha > 0.0 && alpha <= MAX_ALPHA
+}
+
 impl Model {
     /// Builds a model from functional ids: `exchange` is `xalpha` (with `alpha`) or a catalogued
     /// exchange id, `correlation` a catalogued correlation id.
     pub fn from_parts(name: &str, exchange: &str, alpha: Option<f64>, correlation: Option<&str>) -> Result<Model, ModelError> {
         let x: Arc<dyn Functional> = match (exchange, alpha) {
-            ("xalpha", Some(alpha)) if alpha.is_finite() && alpha > 0.0 => Arc::new(XAlpha { alpha }),
+            ("xalpha", Some(alpha)) if alpha_in_range(alpha) => Arc::new(XAlpha { alpha }),
             ("xalpha", Some(a)) => return Err(ModelError::BadAlpha { spec: format!("xalpha={a}") }),
             ("xalpha", None) | (_, Some(_)) => return Err(ModelError::AlphaMisplaced { name: name.into() }),
             (id, None) => find(Part::Exchange, id).ok_or_else(|| ModelError::UnknownFunctional {
@@ -159,14 +169,17 @@ impl Model {
     /// Resolves a built-in model name (see [`BUILTIN`]) or `xalpha=VALUE`.
     pub fn from_name(spec: &str) -> Result<Model, ModelError> {
         let spec = spec.trim();
-        if let Some(value) = spec.strip_prefix("xalpha=") {
+        // Names are matched in any case (`PBE`, `XAlpha=0.7`); reports use the canonical one.
+        let prefix = "xalpha=";
+        if spec.len() >= prefix.len() && spec.is_char_boundary(prefix.len()) && spec[..prefix.len()].eq_ignore_ascii_case(prefix) {
+            let value = &spec[prefix.len()..];
             let alpha: f64 = value.trim().parse().map_err(|_| ModelError::BadAlpha { spec: spec.into() })?;
-            if !(alpha.is_finite() && alpha > 0.0) {
+            if !alpha_in_range(alpha) {
                 return Err(ModelError::BadAlpha { spec: spec.into() });
             }
             return Model::from_parts(&format!("xalpha={alpha}"), "xalpha", Some(alpha), None);
         }
-        match BUILTIN.iter().find(|b| b.0 == spec) {
+        match BUILTIN.iter().find(|b| b.0.eq_ignore_ascii_case(spec)) {
             Some(&(name, x, alpha, c)) => Model::from_parts(name, x, alpha, c),
             None => Err(ModelError::Unknown { name: spec.into(), known: BUILTIN.iter().map(|b| b.0).collect::<Vec<_>>().join(", ") }),
         }
@@ -295,7 +308,7 @@ impl ModelLibrary {
 
     /// A model by name: user-defined, built-in, or `xalpha=VALUE`.
     pub fn resolve(&self, name: &str) -> Result<Model, ModelError> {
-        if let Some(m) = self.custom.iter().find(|m| m.name == name.trim()) {
+        if let Some(m) = self.custom.iter().find(|m| m.name.eq_ignore_ascii_case(name.trim())) {
             return Ok(m.clone());
         }
         Model::from_name(name).map_err(|e| match e {
@@ -328,6 +341,13 @@ mod tests {
         assert_eq!(Model::from_name("xalpha=.70").unwrap().name, "xalpha=0.7");
         assert!(matches!(Model::from_name("xalpha=-1"), Err(ModelError::BadAlpha { .. })));
         assert!(matches!(Model::from_name("xalpha=nan"), Err(ModelError::BadAlpha { .. })));
+        assert!(matches!(Model::from_name("xalpha=1e308"), Err(ModelError::BadAlpha { .. })));
+        assert!(matches!(Model::from_name("xalpha=2.5"), Err(ModelError::BadAlpha { .. })));
+        assert_eq!(Model::from_name("xalpha=2").unwrap().name, "xalpha=2");
+        // Any case in, the canonical name out.
+        assert_eq!(Model::from_name("PBE").unwrap().name, "pbe");
+        assert_eq!(Model::from_name("R2SCAN-X").unwrap().name, "r2scan-x");
+        assert_eq!(Model::from_name("XAlpha=0.7").unwrap().name, "xalpha=0.7");
         let err = Model::from_name("lsdaa").unwrap_err().to_string();
         assert!(err.contains("unknown model `lsdaa`") && err.contains("r2scan-x"), "{err}");
     }

@@ -598,3 +598,31 @@ fn a_file_without_occupied_orbitals_is_a_failure() {
     assert_eq!(out.status.code(), Some(2));
     assert!(stderr(&out).contains("h_donly_sph_cfour.molden: no occupied orbitals"), "{}", stderr(&out));
 }
+
+/// Small things a user trips over: model names in any case, an empty `--top`, a basis-set file
+/// given to `inspect`.
+#[test]
+fn model_names_in_any_case_an_empty_top_and_inspect_on_a_basis_file() {
+    let dir = tempfile::tempdir().unwrap();
+    let sample = PathBuf::from(env!("CARGO_MANIFEST_DIR")).join("samples/lithium_hydride/orbital_001.cube.gz");
+    let f = sample.to_str().unwrap();
+    let out = sixray(&["rank", "-f", "json", "--no-error-bars", "-m", "PBE", "--rank-by", "Pbe", f], dir.path());
+    assert_eq!(out.status.code(), Some(0), "{}", stderr(&out));
+    let report: serde_json::Value = serde_json::from_slice(&out.stdout).unwrap();
+    assert_eq!(report["rank_by"], "pbe");
+    assert_eq!(report["models"].as_array().unwrap().len(), 1, "PBE and Pbe are one model");
+
+    let out = sixray(&["rank", "--top", "0", f], dir.path());
+    assert_eq!(out.status.code(), Some(2));
+    assert!(stderr(&out).contains("--top must be at least 1"), "{}", stderr(&out));
+
+    let out = sixray(&["rank", "-m", "xalpha=1e308", f], dir.path());
+    assert_eq!(out.status.code(), Some(2));
+    assert!(stderr(&out).contains("at most 2"), "{}", stderr(&out));
+
+    let molden = PathBuf::from(env!("CARGO_MANIFEST_DIR")).join("tests/data/basis/spherical.molden");
+    let out = sixray(&["inspect", molden.to_str().unwrap()], dir.path());
+    let text = format!("{}{}", stdout(&out), stderr(&out));
+    assert_ne!(out.status.code(), Some(0), "{text}");
+    assert!(text.contains("a molden basis-set file") && text.contains("sixray rank"), "{text}");
+}
