@@ -264,7 +264,7 @@ fn bad_arguments_exit_with_status_two() {
     let f = f.to_str().unwrap();
     for (args, needle) in [
         (vec!["rank", "-m", "lsdaa", f], "unknown model `lsdaa`"),
-        (vec!["rank", "-m", "xalpha=-2", f], "α must be a positive number"),
+        (vec!["rank", "-m", "xalpha=-2", f], "α must be a number above 0"),
         (vec!["rank", "--occupation", "1.5", f], "--occupation"),
         (vec!["rank", "--units", "joule", f], "unknown energy unit"),
         (vec!["rank", "-m", "lsda", "-m", "lsda", f], "twice"),
