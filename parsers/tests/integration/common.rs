@@ -69,4 +69,23 @@ impl Rng {
     pub fn below(&mut self, n: usize) -> usize {
         (self.next() % n as u64) as usize
     }
+
+    /// `seed` with one to four random edits (a byte replaced, inserted or deleted), the bytes
+    /// mostly from `alphabet` (characters the format gives meaning to) and sometimes any byte.
+    pub fn mutate(&mut self, seed: &[u8], alphabet: &[u8]) -> Vec<u8> {
+        let mut bytes = seed.to_vec();
+        for _ in 0..1 + self.below(4) {
+            let at = self.below(bytes.len() + 1);
+            let b = if self.below(4) == 0 { self.next() as u8 } else { alphabet[self.below(alphabet.len())] };
+            match self.below(3) {
+                0 if at < bytes.len() => bytes[at] = b,
+                1 => bytes.insert(at, b),
+                _ if at < bytes.len() => {
+                    bytes.remove(at);
+                }
+                _ => {}
+            }
+        }
+        bytes
+    }
 }

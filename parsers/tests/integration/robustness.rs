@@ -86,23 +86,7 @@ fn random_byte_flips_insertions_deletions() {
     let mut rng = Rng(0x9e37_79b9_7f4a_7c15);
     let mut accepted = 0;
     for _ in 0..20_000 {
-        let mut bytes = seed.clone();
-        for _ in 0..1 + rng.below(4) {
-            let at = rng.below(bytes.len() + 1);
-            let b = if rng.below(4) == 0 {
-                rng.next() as u8
-            } else {
-                alphabet[rng.below(alphabet.len())]
-            };
-            match rng.below(3) {
-                0 if at < bytes.len() => bytes[at] = b,
-                1 => bytes.insert(at, b),
-                _ if at < bytes.len() => {
-                    bytes.remove(at);
-                }
-                _ => {}
-            }
-        }
+        let bytes = rng.mutate(&seed, alphabet);
         check(&bytes);
         accepted += usize::from(parse(&bytes).is_ok());
     }
@@ -166,23 +150,7 @@ fn molden_random_byte_flips_insertions_deletions() {
     let mut rng = Rng(0x2545_f491_4f6c_dd1d);
     let mut accepted = 0;
     for _ in 0..20_000 {
-        let mut bytes = seed.clone();
-        for _ in 0..1 + rng.below(4) {
-            let at = rng.below(bytes.len() + 1);
-            let b = if rng.below(4) == 0 {
-                rng.next() as u8
-            } else {
-                alphabet[rng.below(alphabet.len())]
-            };
-            match rng.below(3) {
-                0 if at < bytes.len() => bytes[at] = b,
-                1 => bytes.insert(at, b),
-                _ if at < bytes.len() => {
-                    bytes.remove(at);
-                }
-                _ => {}
-            }
-        }
+        let bytes = rng.mutate(&seed, alphabet);
         if let Ok(m) = parse_molden(&bytes, Path::new("seed.molden")) {
             consistent_molden(&m);
             accepted += 1;

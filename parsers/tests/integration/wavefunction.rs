@@ -288,19 +288,7 @@ fn mutate(seed: &[u8], rng_seed: u64, mut check: impl FnMut(&[u8]) -> bool) -> u
     let mut rng = Rng(rng_seed);
     let mut accepted = 0;
     for _ in 0..5_000 {
-        let mut bytes = seed.to_vec();
-        for _ in 0..1 + rng.below(4) {
-            let at = rng.below(bytes.len() + 1);
-            let b = if rng.below(4) == 0 { rng.next() as u8 } else { alphabet[rng.below(alphabet.len())] };
-            match rng.below(3) {
-                0 if at < bytes.len() => bytes[at] = b,
-                1 => bytes.insert(at, b),
-                _ if at < bytes.len() => {
-                    bytes.remove(at);
-                }
-                _ => {}
-            }
-        }
+        let bytes = rng.mutate(seed, alphabet);
         accepted += usize::from(check(&bytes));
     }
     accepted
