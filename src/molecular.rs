@@ -61,23 +61,17 @@ impl Default for MolecularParams {
     }
 }
 
-/// Basis set and orbitals of any basis-set file (molden, fchk, wfn, wfx). Files with effective
-/// core potentials give their valence orbitals, which are analysed like any others.
-fn basis_file(path: &Path) -> Result<(BasisSet, MolecularOrbitals), BasisError> {
-    crate::basis::read_any(path).map(|(basis, orbitals, _)| (basis, orbitals))
-}
-
 /// Label and orbital energy (hartree, where the file gives one) of each occupied spin-orbital
 /// report a molden file yields, in report order; cheap (no integrals).
 pub fn occupied_orbitals(path: &Path) -> Result<Vec<(String, Option<f64>)>, BasisError> {
-    let (_, orbitals) = basis_file(path)?;
+    let orbitals = crate::basis::read_orbitals(path)?;
     Ok(occupied(&orbitals, &crate::input::stem(path)).into_iter().map(|o| (o.label, o.energy)).collect())
 }
 
 /// What a basis-set file says about occupations, for the failure of a file without occupied
 /// orbitals: `the file lists N orbital(s), none occupied: …`.
 pub fn occupation_summary(path: &Path) -> Result<String, BasisError> {
-    let (_, orbitals) = basis_file(path)?;
+    let orbitals = crate::basis::read_orbitals(path)?;
     let all = &orbitals.orbitals;
     let given: Vec<f64> = all.iter().filter_map(|o| o.occupation).collect();
     let detail = if given.is_empty() {
@@ -366,7 +360,7 @@ pub fn sample_molden(path: &Path, spacing: f64, margin: f64, par: Parallelism) -
             message: format!("a uniform grid needs a spacing of at least {MIN_UNIFORM_SPACING} bohr and a non-negative margin, got {spacing} and {margin}"),
         });
     }
-    let (basis, orbitals) = basis_file(path)?;
+    let (basis, orbitals, _) = crate::basis::read_any(path)?;
     let stem = crate::input::stem(path);
     let occupied = occupied(&orbitals, &stem);
     let (mut lo, mut hi) = ([f64::INFINITY; 3], [f64::NEG_INFINITY; 3]);

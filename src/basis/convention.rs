@@ -61,6 +61,23 @@ pub enum CartesianScale {
     Uniform,
 }
 
+impl CartesianScale {
+    /// The file's function x^a y^b z^c (`e` = [a, b, c]) as a multiple of the same component
+    /// normalised on its own.
+    pub fn factor(self, e: [u32; 3]) -> f64 {
+        use super::angular::odd_double_factorial;
+        // norm² of x^a y^b z^c relative to the component normalised on its own is w/(2l−1)!!.
+        let w: f64 = e.iter().map(|&k| odd_double_factorial(k)).product();
+        let l = e.iter().sum();
+        match self {
+            CartesianScale::EachComponent => 1.0,
+            CartesianScale::LikeAxis => (w / odd_double_factorial(l)).sqrt(),
+            CartesianScale::LikeMixed => w.sqrt(),
+            CartesianScale::Uniform => odd_double_factorial(l).sqrt(),
+        }
+    }
+}
+
 /// Sign convention of real solid harmonics.
 #[derive(Debug, Clone, Copy, PartialEq, Eq, Hash)]
 pub enum HarmonicSigns {
@@ -351,7 +368,7 @@ pub fn detect(m: &MoldenFile) -> Result<(BasisSet, MolecularOrbitals, BasisConve
 #[cfg(test)]
 mod tests {
     use super::*;
-    use crate::basis::angular::{molden_cartesian_order, molden_m_order, odd_double_factorial};
+    use crate::basis::angular::{molden_cartesian_order, molden_m_order};
     use crate::basis::coulomb::self_energies;
     use crate::basis::primitive_norm;
     use crate::par::Parallelism;
@@ -412,13 +429,8 @@ mod tests {
                     }
                 } else {
                     for e in molden_cartesian_order(l).expect("l ≤ 4") {
-                        let w: f64 = e.iter().map(|&k| odd_double_factorial(k)).product();
-                        let f = match (l >= 2, c.cartesian) {
-                            (false, _) | (true, CartesianScale::EachComponent) => 1.0,
-                            (true, CartesianScale::LikeAxis) => (w / odd_double_factorial(l)).sqrt(),
-                            (true, CartesianScale::LikeMixed) => w.sqrt(),
-                            (true, CartesianScale::Uniform) => odd_double_factorial(l).sqrt(),
-                        };
+                        // s and p are the same under every Cartesian convention.
+                        let f = if l >= 2 { c.cartesian.factor(e) } else { 1.0 };
                         factor.push(stretch * f);
                     }
                 }

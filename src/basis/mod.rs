@@ -132,27 +132,7 @@ impl Shell {
         coefficients: &[f64],
         atom: usize,
     ) -> Result<Shell, BasisError> {
-        if l > MAX_L {
-            return Err(BasisError::plain(format!("expected a shell of angular momentum at most {MAX_L} (i), found {l}")));
-        }
-        if exponents.is_empty() || exponents.len() != coefficients.len() {
-            return Err(BasisError::plain(format!(
-                "expected as many contraction coefficients as exponents (at least one), found {} and {}",
-                coefficients.len(),
-                exponents.len()
-            )));
-        }
-        let to_cartesian = angular::transformation(l, spherical && l >= 2)
-            .ok_or_else(|| BasisError::plain(format!("no component order for l = {l}")))?;
-        let mut raw: Vec<f64> = exponents.iter().zip(coefficients).map(|(&a, &d)| d * primitive_norm(l, a)).collect();
-        let norm2 = contraction_norm2(l, &exponents, &raw);
-        // Checked after from_parts' own checks would be too late: a zero norm divides here.
-        if exponents.iter().all(|a| a.is_finite() && *a > 0.0) && !(norm2.is_finite() && norm2 > 0.0) {
-            return Err(BasisError::plain(format!("expected a contraction of non-zero norm, found norm² {norm2:e}")));
-        }
-        let scale = 1.0 / norm2.sqrt();
-        raw.iter_mut().for_each(|r| *r *= scale);
-        Shell::from_parts(centre, l, spherical, exponents, raw, to_cartesian, atom)
+        convention_shell(&Convention::MOLDEN, centre, l, spherical, exponents, coefficients, atom)
     }
 
     /// A shell from its parts as a reader has decided them: `raw`, the coefficients of the plain
@@ -235,7 +215,9 @@ pub(crate) fn contraction_norm2(l: u32, exponents: &[f64], raw: &[f64]) -> f64 {
     sum
 }
 
-/// A molden shell read under `convention` (see [`convention`]).
+/// A molden shell read under `convention` (see [`convention`]); [`Shell::new`] is the format's
+/// own convention. Errors for l above [`MAX_L`] (i), mismatched or empty lists, non-positive
+/// exponents or a contraction of zero norm.
 fn convention_shell(
     convention: &Convention,
     centre: [f64; 3],
@@ -245,17 +227,26 @@ fn convention_shell(
     coefficients: &[f64],
     atom: usize,
 ) -> Result<Shell, BasisError> {
-    if *convention == Convention::MOLDEN {
-        return Shell::new(centre, l, spherical, exponents, coefficients, atom);
-    }
     if l > MAX_L {
-        return Err(BasisError::plain(format!("expected a shell of angular momentum at most {MAX_L}, found {l}")));
+        return Err(BasisError::plain(format!("expected a shell of angular momentum at most {MAX_L} (i), found {l}")));
     }
+    if exponents.is_empty() || exponents.len() != coefficients.len() {
+        return Err(BasisError::plain(format!(
+            "expected as many contraction coefficients as exponents (at least one), found {} and {}",
+            coefficients.len(),
+            exponents.len()
+        )));
+    }
+    let spherical = spherical && l >= 2;
+    let mut rows = angular::transformation(l, spherical)
+        .ok_or_else(|| BasisError::plain(format!("no component order for l = {l}")))?;
     let mut raw: Vec<f64> = match convention.primitives {
         PrimitiveScale::Normalised => exponents.iter().zip(coefficients).map(|(&a, &d)| d * primitive_norm(l, a)).collect(),
         PrimitiveScale::Plain => coefficients.to_vec(),
     };
-    if convention.renormalised {
+    // Non-positive exponents are from_parts' to report; a zero norm would divide here first.
+    let valid_exponents = exponents.iter().all(|a| a.is_finite() && *a > 0.0);
+    if convention.renormalised && valid_exponents {
         let norm2 = contraction_norm2(l, &exponents, &raw);
         if !(norm2.is_finite() && norm2 > 0.0) {
             return Err(BasisError::plain(format!("expected a contraction of non-zero norm, found norm² {norm2:e}")));
@@ -263,9 +254,6 @@ fn convention_shell(
         let scale = 1.0 / norm2.sqrt();
         raw.iter_mut().for_each(|r| *r *= scale);
     }
-    let spherical = spherical && l >= 2;
-    let mut rows = angular::transformation(l, spherical)
-        .ok_or_else(|| BasisError::plain(format!("no component order for l = {l}")))?;
     let nc = angular::cartesian_count(l);
     if spherical {
         if convention.signs == HarmonicSigns::FlippedHighM && (l == 3 || l == 4) {
@@ -275,18 +263,11 @@ fn convention_shell(
                 }
             }
         }
-    } else if l >= 2 {
+    } else if l >= 2 && convention.cartesian != CartesianScale::EachComponent {
         let order = angular::molden_cartesian_order(l)
             .ok_or_else(|| BasisError::plain(format!("no Cartesian component order for l = {l}")))?;
         for (j, e) in order.into_iter().enumerate() {
-            // norm² of x^a y^b z^c relative to the component normalised on its own.
-            let w = e.iter().map(|&k| angular::odd_double_factorial(k)).product::<f64>();
-            let factor = match convention.cartesian {
-                CartesianScale::EachComponent => 1.0,
-                CartesianScale::LikeAxis => (w / angular::odd_double_factorial(l)).sqrt(),
-                CartesianScale::LikeMixed => w.sqrt(),
-                CartesianScale::Uniform => angular::odd_double_factorial(l).sqrt(),
-            };
+            let factor = convention.cartesian.factor(e);
             rows[j * nc..(j + 1) * nc].iter_mut().for_each(|t| *t *= factor);
         }
     }
@@ -561,10 +542,34 @@ impl BasisSet {
 /// [`convention`]; molden files are tried under every convention that could matter), or the
 /// file is refused.
 pub fn read_any(path: &Path) -> Result<(BasisSet, MolecularOrbitals, BasisConvention), BasisError> {
+    match read_format(path)? {
+        AsWritten::Molden(file) => convention::detect(&file),
+        AsWritten::Defined(format, basis, orbitals, provenance) => convention::checked(path, format, basis, orbitals, provenance),
+    }
+}
+
+/// The orbitals of any basis-set file as written, without deciding a molden file's convention
+/// or checking orthonormality: for labels, occupations and counts, which no convention changes
+/// (and which would otherwise cost the convention's overlap matrices again per use).
+pub fn read_orbitals(path: &Path) -> Result<MolecularOrbitals, BasisError> {
+    match read_format(path)? {
+        AsWritten::Molden(file) => MolecularOrbitals::from_molden(&file, &BasisSet::from_molden(&file)?),
+        AsWritten::Defined(_, _, orbitals, _) => Ok(orbitals),
+    }
+}
+
+/// A basis-set file read as its format is written: a molden file still to be interpreted, or a
+/// format that defines its conventions, already converted.
+enum AsWritten {
+    Molden(sixray_parsers::molden::MoldenFile),
+    Defined(&'static str, BasisSet, MolecularOrbitals, fchk::Provenance),
+}
+
+fn read_format(path: &Path) -> Result<AsWritten, BasisError> {
     use sixray_parsers::{FileFormat, sniff_format};
     let format = sniff_format(path).map_err(|e| BasisError::at(path, None, format!("read failed: {e}")))?;
-    let (name, read) = match format {
-        FileFormat::Molden => return read_checked(path),
+    let (name, (basis, orbitals, provenance)) = match format {
+        FileFormat::Molden => return Ok(AsWritten::Molden(read_molden(path)?)),
         FileFormat::Fchk => ("fchk", fchk::read(path)?),
         FileFormat::Wfn => ("wfn", aim::read_wfn_file(path)?),
         FileFormat::Wfx => ("wfx", aim::read_wfx_file(path)?),
@@ -576,8 +581,7 @@ pub fn read_any(path: &Path) -> Result<(BasisSet, MolecularOrbitals, BasisConven
             ));
         }
     };
-    let (basis, orbitals, provenance) = read;
-    convention::checked(path, name, basis, orbitals, provenance)
+    Ok(AsWritten::Defined(name, basis, orbitals, provenance))
 }
 
 /// Reads a molden file (plain or gzip) and builds its basis set and orbitals.
