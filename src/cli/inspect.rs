@@ -1,14 +1,14 @@
 //! `sixray inspect`: checks of total-density grid files, optionally against the orbital files of
 //! the same calculation.
 
-use super::Status;
-use anyhow::{Context, bail};
+use super::{Status, hold_streams};
+use anyhow::{Context, anyhow, bail};
 use clap::{Args, ValueEnum};
 use sixray::input::{Kind, LoadParams};
 use sixray::inspect::render::{self, Failure};
 use sixray::inspect::{InspectParams, inspect_file};
 use sixray::par::Parallelism;
-use sixray::report::write_atomic;
+use sixray::report::atomic::{check_output_file, directory_of, remove_stale_temporaries, write_atomic};
 use std::path::PathBuf;
 
 #[derive(Debug, Args)]
@@ -63,11 +63,16 @@ pub fn run(args: InspectArgs) -> anyhow::Result<Status> {
         }),
         ..LoadParams::default()
     };
+    if let Some(path) = &args.output {
+        check_output_file(path).map_err(|e| anyhow!("{e} (--output; nothing was run)"))?;
+        remove_stale_temporaries(directory_of(path));
+    }
+    let (files, orbitals) = (hold_streams(&args.files)?, hold_streams(&args.orbitals)?);
     let params = InspectParams::default();
     let mut done = Vec::new();
     let mut failures = Vec::new();
-    for file in &args.files {
-        match inspect_file(file, &args.orbitals, &load, &params, Parallelism::Rayon) {
+    for file in &files {
+        match inspect_file(file, &orbitals, &load, &params, Parallelism::Rayon) {
             Ok(f) => done.push(f),
             Err(e) => {
                 eprintln!("sixray: error: {e}");
