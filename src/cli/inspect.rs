@@ -1,14 +1,14 @@
 //! `sixray inspect`: checks of total-density grid files, optionally against the orbital files of
 //! the same calculation.
 
-use super::{Status, hold_streams};
-use anyhow::{Context, anyhow, bail};
+use super::{Status, hold_streams, prepare_output};
+use anyhow::{Context, bail};
 use clap::{Args, ValueEnum};
 use sixray::input::{Kind, LoadParams};
 use sixray::inspect::render::{self, Failure};
 use sixray::inspect::{InspectParams, inspect_file};
 use sixray::par::Parallelism;
-use sixray::report::atomic::{check_output_file, directory_of, remove_stale_temporaries, write_atomic};
+use sixray::report::write_atomic;
 use std::path::PathBuf;
 
 #[derive(Debug, Args)]
@@ -63,10 +63,7 @@ pub fn run(args: InspectArgs) -> anyhow::Result<Status> {
         }),
         ..LoadParams::default()
     };
-    if let Some(path) = &args.output {
-        check_output_file(path).map_err(|e| anyhow!("{e} (--output; nothing was run)"))?;
-        remove_stale_temporaries(directory_of(path));
-    }
+    prepare_output(args.output.as_ref())?;
     let (files, orbitals) = (hold_streams(&args.files)?, hold_streams(&args.orbitals)?);
     let params = InspectParams::default();
     let mut done = Vec::new();

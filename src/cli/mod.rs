@@ -117,6 +117,17 @@ fn hold_streams(files: &[PathBuf]) -> anyhow::Result<Vec<PathBuf>> {
     Ok(files.iter().map(|f| sixray_parsers::stream::hold(f)).collect::<Result<_, _>>()?)
 }
 
+/// Before any input is read: `--output FILE` must be writable (see
+/// [`sixray::report::atomic::check_output_file`]); temporary files killed runs left beside it go.
+fn prepare_output(path: Option<&PathBuf>) -> anyhow::Result<()> {
+    use sixray::report::atomic::{check_output_file, directory_of, remove_stale_temporaries};
+    if let Some(path) = path {
+        check_output_file(path).map_err(|e| anyhow::anyhow!("{e} (--output; nothing was run)"))?;
+        remove_stale_temporaries(directory_of(path));
+    }
+    Ok(())
+}
+
 /// Runs `f` in a thread pool of `threads` workers (all cores if `None`).
 fn in_pool<T: Send>(threads: Option<usize>, f: impl FnOnce() -> anyhow::Result<T> + Send) -> anyhow::Result<T> {
     let mut pool = rayon::ThreadPoolBuilder::new();

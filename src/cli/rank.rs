@@ -1,7 +1,7 @@
 //! `sixray rank`: one calculation's orbital files in, a ranked report out.
 
-use super::{Status, hold_streams, uniform_grid_scope};
-use anyhow::{Context, anyhow, bail};
+use super::{Status, hold_streams, prepare_output, uniform_grid_scope};
+use anyhow::{Context, bail};
 use clap::{Args, ValueEnum};
 use sixray::calculation::{OrbitalSets, Outcome, analyse_files, analyse_localized};
 use sixray::diagnostics::OrbitalSet;
@@ -11,7 +11,6 @@ use sixray::diagnostics::{Engine, EngineParams, Spin};
 use sixray::input::{Kind, LoadParams, SpinRule};
 use sixray::molecular::{MIN_UNIFORM_SPACING, MolecularParams};
 use sixray::molgrid::GridLevel;
-use sixray::report::atomic::{check_output_file, directory_of, remove_stale_temporaries};
 use sixray::report::{self, EnergyUnit, Report};
 use sixray::trust::TrustParams;
 use sixray::xc::Model;
@@ -187,10 +186,7 @@ pub fn run(args: RankArgs) -> anyhow::Result<Status> {
     if !(args.occupation > 0.0 && args.occupation <= 1.0) {
         bail!("--occupation must be in (0, 1], got {}", args.occupation);
     }
-    if let Some(path) = &args.output {
-        check_output_file(path).map_err(|e| anyhow!("{e} (--output; nothing was run)"))?;
-        remove_stale_temporaries(directory_of(path));
-    }
+    prepare_output(args.output.as_ref())?;
     let files = hold_streams(&args.files)?;
     if args.uniform_grid.is_some() {
         if let Some(warning) = uniform_grid_scope("--grid", &files)? {

@@ -125,13 +125,17 @@ pub struct DirError {
     pub reason: String,
 }
 
-/// Why `path` cannot be created: the nearest existing ancestor that is not a directory, if
-/// there is one, or what the system said.
+/// The nearest existing ancestor of `path` (itself included) when it is not a directory: the
+/// file in the way of creating `path`.
+fn file_in_the_way(path: &Path) -> Option<&Path> {
+    path.ancestors().find(|a| !a.as_os_str().is_empty() && a.exists()).filter(|a| !a.is_dir())
+}
+
+/// Why `path` cannot be created: the file in its way, if there is one, or what the system said.
 fn reason(path: &Path, e: &std::io::Error) -> String {
-    let blocking = path.ancestors().find(|a| !a.as_os_str().is_empty() && a.exists());
-    match blocking {
-        Some(a) if !a.is_dir() => format!("{} is a file, not a directory", a.display()),
-        _ => e.to_string(),
+    match file_in_the_way(path) {
+        Some(a) => format!("{} is a file, not a directory", a.display()),
+        None => e.to_string(),
     }
 }
 
@@ -141,9 +145,6 @@ fn reason(path: &Path, e: &std::io::Error) -> String {
 pub fn check_dir(dir: &Path) -> Result<(), DirError> {
     let fail = |reason: String| DirError { path: dir.to_path_buf(), reason };
     std::fs::create_dir_all(dir).map_err(|e| fail(reason(dir, &e)))?;
-    if !dir.is_dir() {
-        return Err(fail(format!("{} is a file, not a directory", dir.display())));
-    }
     let (probe, _) = create_temporary(dir).map_err(|e| fail(e.to_string()))?;
     std::fs::remove_file(probe).map_err(|e| fail(e.to_string()))
 }
@@ -157,13 +158,9 @@ pub fn check_output_file(file: &Path) -> Result<(), DirError> {
     }
     let dir = directory_of(file);
     if !dir.is_dir() {
-        return Err(fail(if dir.exists() {
-            format!("{} is a file, not a directory", dir.display())
-        } else {
-            match dir.ancestors().find(|a| !a.as_os_str().is_empty() && a.exists()) {
-                Some(a) if !a.is_dir() => format!("{} is a file, not a directory", a.display()),
-                _ => format!("the directory {} does not exist", dir.display()),
-            }
+        return Err(fail(match file_in_the_way(dir) {
+            Some(a) => format!("{} is a file, not a directory", a.display()),
+            None => format!("the directory {} does not exist", dir.display()),
         }));
     }
     check_dir(dir).map_err(|e| fail(e.reason))
