@@ -6,7 +6,9 @@
 //! version. Entries are written atomically as each orbital finishes, so a run killed at any
 //! moment leaves only whole entries, and a rerun recomputes exactly the orbitals without one.
 //! Floats are stored in their shortest round-trip form, so cached results are bit-identical to
-//! fresh ones. An entry that cannot be read or parsed counts as missing.
+//! fresh ones. An entry that cannot be read or parsed counts as missing. Each entry stands on
+//! its own (its name is its content's key), so entries of different runs never mix; temporary
+//! files a killed run left are removed by the next (see [`crate::report::atomic`]).
 
 use crate::diagnostics::{EngineParams, OrbitalReport, Spin};
 use crate::input::LoadParams;
@@ -22,8 +24,12 @@ pub struct ResultCache {
     read: bool,
 }
 
-/// BLAKE3 digest of a file's bytes.
+/// BLAKE3 digest of a file's bytes (of the held bytes for an input read from a pipe, see
+/// [`sixray_parsers::stream`]).
 pub fn file_digest(path: &Path) -> std::io::Result<blake3::Hash> {
+    if let Some(bytes) = sixray_parsers::stream::held(path) {
+        return Ok(blake3::hash(&bytes));
+    }
     let mut hasher = blake3::Hasher::new();
     hasher.update_reader(std::fs::File::open(path)?)?;
     Ok(hasher.finalize())

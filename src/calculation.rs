@@ -254,6 +254,23 @@ pub fn run_files(
     }
 }
 
+/// The cube grids among `files` and whether any of them is a basis-set file: a uniform-grid
+/// spacing (`rank --grid`, a workflow's `uniform_grid:`) samples basis-set files and leaves cube
+/// grids as they are. Files whose format cannot be read count as neither; they fail later with
+/// the full error.
+pub fn cube_files(files: &[PathBuf]) -> (Vec<&Path>, bool) {
+    let mut cubes = Vec::new();
+    let mut basis = false;
+    for f in files {
+        match sniff_format(f) {
+            Ok(FileFormat::Cube) => cubes.push(f.as_path()),
+            Ok(FileFormat::Molden | FileFormat::Fchk | FileFormat::Wfn | FileFormat::Wfx) => basis = true,
+            _ => {}
+        }
+    }
+    (cubes, basis)
+}
+
 /// Orbital reports the jobs will yield, from grid headers and basis-file orbital lists (a file
 /// that cannot be read counts as one; it will fail later with the full error).
 pub fn count_orbitals(jobs: &[FileJob]) -> usize {

@@ -268,7 +268,8 @@ fn check_size(
         })
     })?;
     if total > max_values {
-        let why = "the configured maximum (ReadParams::max_values)".to_string();
+        // Named for the user: what the limit is, not the parameter that sets it.
+        let why = "the memory limit for one grid (8 bytes per value)".to_string();
         return Err(err(CubeErrorKind::TooLarge {
             claimed: total,
             limit: max_values,
@@ -322,24 +323,35 @@ fn open(path: &Path) -> Result<(Box<dyn BufRead>, Option<u64>), CubeError> {
 
 /// Opens `path` as text, decompressing transparently when it starts with the gzip magic bytes
 /// (shared by every reader). Returns the reader and the largest number of text bytes the file
-/// could yield (unknown for pipes and other non-regular files).
+/// could yield (unknown for pipes and other non-regular files). An input held in memory by
+/// [`crate::stream::hold`] is read from there.
 pub(crate) fn open_text(path: &Path) -> std::io::Result<(Box<dyn BufRead>, Option<u64>)> {
-    let mut file = File::open(path)?;
+    if let Some(bytes) = crate::stream::held(path) {
+        let len = bytes.len() as u64;
+        return text_reader(Cursor::new(bytes), Some(len));
+    }
+    let file = File::open(path)?;
     let meta = file.metadata()?;
-    let file_len = meta.is_file().then_some(meta.len());
+    text_reader(file, meta.is_file().then_some(meta.len()))
+}
 
+/// `source` as text (gzip detected by its magic bytes); `source_len` is its size, if known.
+fn text_reader(
+    mut source: impl Read + 'static,
+    source_len: Option<u64>,
+) -> std::io::Result<(Box<dyn BufRead>, Option<u64>)> {
     // Peek at the first two bytes without seeking, so that pipes work too.
     let mut magic = Vec::with_capacity(2);
-    (&mut file).take(2).read_to_end(&mut magic)?;
+    (&mut source).take(2).read_to_end(&mut magic)?;
     let gzip = magic == GZIP_MAGIC;
-    let stream = Cursor::new(magic).chain(file);
+    let stream = Cursor::new(magic).chain(source);
 
     if gzip {
         let decoder = flate2::bufread::MultiGzDecoder::new(BufReader::with_capacity(
             GZIP_INPUT_BUFFER_BYTES,
             stream,
         ));
-        let limit = file_len.map(|n| n.saturating_mul(GZIP_MAX_EXPANSION));
+        let limit = source_len.map(|n| n.saturating_mul(GZIP_MAX_EXPANSION));
         Ok((
             Box::new(BufReader::with_capacity(READ_BUFFER_BYTES, decoder)),
             limit,
@@ -347,7 +359,7 @@ pub(crate) fn open_text(path: &Path) -> std::io::Result<(Box<dyn BufRead>, Optio
     } else {
         Ok((
             Box::new(BufReader::with_capacity(READ_BUFFER_BYTES, stream)),
-            file_len,
+            source_len,
         ))
     }
 }

@@ -3,6 +3,8 @@
 //!
 //! This crate knows no physics: it reports numbers and units exactly as written and leaves
 //! every conversion and interpretation to its callers. Errors name the file and the line.
+//! Inputs that can be read only once (standard input, pipes) are held in memory by
+//! [`stream::hold`] and then read by name like files.
 //!
 //! ```no_run
 //! use std::path::Path;
@@ -22,6 +24,7 @@ pub mod fchk;
 mod fields;
 pub mod format;
 pub mod molden;
+pub mod stream;
 pub mod text;
 pub mod wfn;
 pub mod wfx;

@@ -66,7 +66,7 @@ pub enum TextErrorKind {
         limit: u64,
     },
     /// A `parse_*` function was handed gzip-compressed bytes.
-    #[error("expected text, found gzip-compressed data (use the read_* function, which decompresses)")]
+    #[error("expected text, found gzip-compressed data (decompress it first, or read the file by name)")]
     Compressed,
 }
 

@@ -1,12 +1,14 @@
 //! `sixray batch`: a workflow file in, set-wide reports out.
 
-use super::{Status, in_pool};
+use super::{Status, in_pool, uniform_grid_scope};
 use super::progress::Display;
-use anyhow::Context;
+use anyhow::{Context, anyhow};
 use clap::Args;
 use serde_json::json;
 use sixray::batch::summary::SetSummary;
-use sixray::batch::{BatchParams, Workflow, expected_orbitals, run};
+use sixray::batch::{BatchParams, CACHE_DIR, Workflow, expected_orbitals, run};
+use sixray::report::atomic::{check_dir, remove_stale_temporaries};
+use sixray::report::set;
 use sixray::report::batch::{BatchReport, write};
 use sixray::report::html::ReportDate;
 use std::path::PathBuf;
@@ -49,6 +51,17 @@ pub fn run_batch(args: BatchArgs, threads: Option<usize>) -> anyhow::Result<Stat
         workflow.report.dir = dir;
     }
     workflow.report.date = args.date;
+    for c in workflow.calculations.iter().filter(|c| c.load.molecular.uniform_spacing.is_some()) {
+        match uniform_grid_scope("uniform_grid", &c.files) {
+            Ok(Some(warning)) => eprintln!("sixray: warning: calculation {}: {warning}", c.name),
+            Ok(None) => {}
+            Err(e) => {
+                eprintln!("sixray: error: invalid workflow: {}: calculation {}: {e}", args.workflow.display(), c.name);
+                return Ok(Status::BadInput);
+            }
+        }
+    }
+    prepare_report_dir(&workflow)?;
     let display = Display::new(expected_orbitals(&workflow), args.quiet);
     let params = BatchParams { fresh: args.fresh, ..BatchParams::default() };
     let results = in_pool(threads.or(workflow.threads), || Ok(run(&workflow, &params, &display)))?;
@@ -72,4 +85,27 @@ pub fn run_batch(args: BatchArgs, threads: Option<usize>) -> anyhow::Result<Stat
     let status = if summary.failed == 0 { "ok" } else { "partial" };
     println!("{}", json!({"status": status, "completed": summary.completed, "failed": summary.failed, "reports": reports}));
     Ok(if summary.failed == 0 { Status::Success } else { Status::Partial })
+}
+
+/// Before any input is read: the report directory, and the result cache inside it, must take
+/// new files (checked by writing one); temporary files that killed runs left there go; a report
+/// set that a killed run left mixed is pointed out (this run replaces it whole).
+fn prepare_report_dir(workflow: &Workflow) -> anyhow::Result<()> {
+    let dir = &workflow.report.dir;
+    check_dir(dir).map_err(|e| anyhow!("{e} (the report directory; nothing was run)"))?;
+    remove_stale_temporaries(dir);
+    if workflow.cache {
+        let cache = dir.join(CACHE_DIR);
+        check_dir(&cache).map_err(|e| {
+            anyhow!("{e} (the result cache; `cache: false` under the workflow's `options:` runs without one; nothing was run)")
+        })?;
+        remove_stale_temporaries(&cache);
+    }
+    if let Some(mixed) = set::check(dir) {
+        eprintln!(
+            "sixray: warning: the reports in {} are not one set: {mixed} (a run was stopped while writing them, or they were changed since); this run writes them anew",
+            dir.display()
+        );
+    }
+    Ok(())
 }

@@ -1,7 +1,7 @@
 //! `sixray inspect`: checks of total-density grid files, optionally against the orbital files of
 //! the same calculation.
 
-use super::Status;
+use super::{Status, hold_streams, prepare_output};
 use anyhow::{Context, bail};
 use clap::{Args, ValueEnum};
 use sixray::input::{Kind, LoadParams};
@@ -63,11 +63,13 @@ pub fn run(args: InspectArgs) -> anyhow::Result<Status> {
         }),
         ..LoadParams::default()
     };
+    prepare_output(args.output.as_ref())?;
+    let (files, orbitals) = (hold_streams(&args.files)?, hold_streams(&args.orbitals)?);
     let params = InspectParams::default();
     let mut done = Vec::new();
     let mut failures = Vec::new();
-    for file in &args.files {
-        match inspect_file(file, &args.orbitals, &load, &params, Parallelism::Rayon) {
+    for file in &files {
+        match inspect_file(file, &orbitals, &load, &params, Parallelism::Rayon) {
             Ok(f) => done.push(f),
             Err(e) => {
                 eprintln!("sixray: error: {e}");

@@ -6,10 +6,12 @@ mod progress;
 mod rank;
 
 use clap::{Parser, Subcommand};
+use std::path::PathBuf;
 use sixray::xc::model::{BUILTIN, ModelLibrary};
 use sixray::xc::{Part, catalogue};
 
-/// Per-orbital one-electron self-interaction diagnostics from orbital grid files.
+/// Per-orbital one-electron self-interaction diagnostics from cube grid files and Gaussian-basis
+/// orbital files (molden, fchk, wfn, wfx).
 #[derive(Debug, Parser)]
 #[command(name = "sixray", version, about, long_about = None)]
 pub struct Cli {
@@ -85,6 +87,45 @@ pub fn run(cli: Cli) -> anyhow::Result<Status> {
             Ok(Status::Success)
         }
     }
+}
+
+/// Checks that a uniform-grid spacing given as `option` has basis-set files to apply to among
+/// `files`: an error when every readable file is a cube grid, a warning (returned) naming the
+/// cube grids it leaves as they are when some are.
+fn uniform_grid_scope(option: &str, files: &[PathBuf]) -> anyhow::Result<Option<String>> {
+    let (cubes, basis) = sixray::calculation::cube_files(files);
+    if cubes.is_empty() {
+        return Ok(None);
+    }
+    const SHOWN: usize = 5;
+    let mut list = cubes.iter().take(SHOWN).map(|p| p.display().to_string()).collect::<Vec<_>>().join(", ");
+    if cubes.len() > SHOWN {
+        list += &format!(" and {} more", cubes.len() - SHOWN);
+    }
+    if !basis {
+        anyhow::bail!(
+            "{option} samples basis-set files (molden, fchk, wfn, wfx) on a uniform grid, but the files are cube \
+             grids, which have a grid of their own ({list}); leave {option} out"
+        );
+    }
+    Ok(Some(format!("{option} applies to basis-set files only; read on their own grids: {list}")))
+}
+
+/// The input files as they are read: standard input (`-`) and pipes held in memory under
+/// their names (see [`sixray_parsers::stream`]), other files as given.
+fn hold_streams(files: &[PathBuf]) -> anyhow::Result<Vec<PathBuf>> {
+    Ok(files.iter().map(|f| sixray_parsers::stream::hold(f)).collect::<Result<_, _>>()?)
+}
+
+/// Before any input is read: `--output FILE` must be writable (see
+/// [`sixray::report::atomic::check_output_file`]); temporary files killed runs left beside it go.
+fn prepare_output(path: Option<&PathBuf>) -> anyhow::Result<()> {
+    use sixray::report::atomic::{check_output_file, directory_of, remove_stale_temporaries};
+    if let Some(path) = path {
+        check_output_file(path).map_err(|e| anyhow::anyhow!("{e} (--output; nothing was run)"))?;
+        remove_stale_temporaries(directory_of(path));
+    }
+    Ok(())
 }
 
 /// Runs `f` in a thread pool of `threads` workers (all cores if `None`).

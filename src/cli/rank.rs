@@ -1,6 +1,6 @@
 //! `sixray rank`: one calculation's orbital files in, a ranked report out.
 
-use super::Status;
+use super::{Status, hold_streams, prepare_output, uniform_grid_scope};
 use anyhow::{Context, bail};
 use clap::{Args, ValueEnum};
 use sixray::calculation::{OrbitalSets, Outcome, analyse_files, analyse_localized};
@@ -19,8 +19,8 @@ use std::path::PathBuf;
 
 #[derive(Debug, Args)]
 pub struct RankArgs {
-    /// Orbital files of one calculation: cube grids or molden basis-set files (either optionally
-    /// gzip-compressed).
+    /// Orbital files of one calculation: cube grids or basis-set files (molden, fchk, wfn, wfx),
+    /// each optionally gzip-compressed; `-` reads standard input, and pipes work too.
     #[arg(required = true, value_name = "FILE")]
     files: Vec<PathBuf>,
 
@@ -55,7 +55,8 @@ pub struct RankArgs {
     grid_level: GridLevelArg,
 
     /// Evaluate basis-set files on a uniform grid of SPACING bohr and take the grid-file path
-    /// (to see what a cube file of that spacing would cost in accuracy).
+    /// (to see what a cube file of that spacing would cost in accuracy). Cube files keep their
+    /// own grid: with only cube files this is an error.
     #[arg(long = "grid", value_name = "SPACING")]
     uniform_grid: Option<f64>,
 
@@ -185,6 +186,13 @@ pub fn run(args: RankArgs) -> anyhow::Result<Status> {
     if !(args.occupation > 0.0 && args.occupation <= 1.0) {
         bail!("--occupation must be in (0, 1], got {}", args.occupation);
     }
+    prepare_output(args.output.as_ref())?;
+    let files = hold_streams(&args.files)?;
+    if args.uniform_grid.is_some() {
+        if let Some(warning) = uniform_grid_scope("--grid", &files)? {
+            eprintln!("sixray: warning: {warning}");
+        }
+    }
     let load = LoadParams {
         kind: match args.kind {
             KindArg::Auto => None,
@@ -229,10 +237,10 @@ pub fn run(args: RankArgs) -> anyhow::Result<Status> {
     let localize = LocalizeParams { escape_saddle_points: !args.keep_symmetry, ..LocalizeParams::default() };
     let mut outcomes: Vec<(OrbitalSet, Outcome)> = Vec::new();
     if sets.canonical() {
-        outcomes.push((OrbitalSet::Canonical, analyse_files(&args.files, &load, &engine, rank_by)));
+        outcomes.push((OrbitalSet::Canonical, analyse_files(&files, &load, &engine, rank_by)));
     }
     if sets.localized() {
-        outcomes.push((OrbitalSet::Localized, analyse_localized(&args.files, &load, &engine, &localize, rank_by, Parallelism::Rayon)));
+        outcomes.push((OrbitalSet::Localized, analyse_localized(&files, &load, &engine, &localize, rank_by, Parallelism::Rayon)));
     }
     for (_, outcome) in &outcomes {
         for f in &outcome.failures {

@@ -17,15 +17,19 @@
 //!                      "failures": [{"source", "error"}], "orbitals": [...as in rank],
 //!                      "totals": {MODEL: {"perdew_zunger", "mean_cancellation"}},
 //!                      "spin_orbitals", "density_check": (as one file of `inspect --format json`) or null,
-//!                      "localization": [...as in rank] } ] }
+//!                      "localization": [...as in rank] } ],
+//!   "report_set": ID }
 //! ```
+//!
+//! `report_set` is the id of the set of reports one run wrote (see [`super::set`]); it is the
+//! last field.
 //!
 //! Nothing in a report depends on timing or on the machine, so a rerun (from the cache or not)
 //! writes the same bytes. (`report.html` shows a date: the caller's, or the newest modification
 //! date among the input files, which a rerun does not change.)
 
 use super::text::{Table, input_lines, localization_line, markdown_failures, markdown_orbitals, markdown_totals};
-use super::{EnergyUnit, Report, csv, flags_text, html, json, write_atomic};
+use super::{EnergyUnit, Report, csv, flags_text, html, json, set};
 use crate::batch::summary::{ModelStats, SetSummary};
 use crate::batch::{CalculationResult, ReportFormat, Workflow};
 use serde_json::{Map, Value, json};
@@ -326,24 +330,53 @@ pub fn render_markdown(report: &BatchReport, unit: EnergyUnit) -> String {
     out
 }
 
-/// Writes the workflow's report files (atomically) and returns their paths.
+/// Writes the workflow's report files as one set (see [`super::set`]: all rendered, then
+/// switched into place together, then `report-set.json`) and returns their paths. Each report
+/// but the CSV carries the set's id: the last line of `report.md`, `report_set` in
+/// `report.json`, the footer of `report.html`.
 pub fn write(report: &BatchReport) -> std::io::Result<Vec<(ReportFormat, PathBuf)>> {
     let settings = &report.workflow.report;
     std::fs::create_dir_all(&settings.dir)?;
-    let mut written = Vec::new();
-    for &format in &settings.formats {
-        let (name, text) = match format {
-            ReportFormat::Markdown => ("report.md", render_markdown(report, settings.units)),
-            ReportFormat::Csv => ("orbitals.csv", render_csv(report)),
-            ReportFormat::Json => ("report.json", json::pretty(&to_value(report))),
+    let value = to_value(report);
+    let mut rendered: Vec<(ReportFormat, &str, String)> = settings
+        .formats
+        .iter()
+        .map(|&format| match format {
+            ReportFormat::Markdown => (format, "report.md", render_markdown(report, settings.units)),
+            ReportFormat::Csv => (format, "orbitals.csv", render_csv(report)),
+            ReportFormat::Json => (format, "report.json", json::pretty(&value)),
             ReportFormat::Html => {
                 let dated = html::Dated::for_workflow(report.workflow, settings.date);
-                ("report.html", html::render(report, settings.units, dated))
+                (format, "report.html", html::render(report, settings.units, dated))
             }
-        };
-        let path = settings.dir.join(name);
-        write_atomic(&path, text.as_bytes())?;
-        written.push((format, path));
+        })
+        .collect();
+    let id = set::id(&rendered.iter().map(|(_, name, text)| (*name, text.as_bytes())).collect::<Vec<_>>());
+    for (format, _, text) in &mut rendered {
+        mark(*format, text, &value, &id);
     }
-    Ok(written)
+    set::write(&settings.dir, &id, &rendered.iter().map(|(_, name, text)| (*name, text.as_bytes())).collect::<Vec<_>>())?;
+    Ok(rendered.into_iter().map(|(format, name, _)| (format, settings.dir.join(name))).collect())
+}
+
+/// Puts the set's id into a rendered report (the CSV, a plain table, stays as it is: the
+/// manifest's digest ties it to the set).
+fn mark(format: ReportFormat, text: &mut String, value: &Value, id: &str) {
+    let note = |code: &str| format!("Report set {code}: the reports of one run share this id; {} beside this file lists them with their BLAKE3 digests.", set::MANIFEST);
+    match format {
+        ReportFormat::Markdown => *text += &format!("\n---\n\n{}\n", note(&format!("`{id}`"))),
+        ReportFormat::Json => {
+            let mut v = value.clone();
+            if let Some(map) = v.as_object_mut() {
+                map.insert("report_set".into(), json!(id));
+            }
+            *text = json::pretty(&v);
+        }
+        ReportFormat::Html => {
+            let p = format!("<p>{}</p>", note(&format!("<code>{id}</code>")));
+            let at = text.rfind("</footer>").unwrap_or(text.len());
+            text.insert_str(at, &p);
+        }
+        ReportFormat::Csv => {}
+    }
 }

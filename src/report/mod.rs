@@ -5,17 +5,19 @@
 //! and use the chosen [`EnergyUnit`]. The JSON layout is documented in the README and kept
 //! stable; see [`json`].
 
+pub mod atomic;
 pub mod batch;
 pub mod csv;
 pub mod html;
 pub mod json;
+pub mod set;
 pub mod text;
+
+pub use atomic::write_atomic;
 
 use crate::calculation::Outcome;
 use crate::diagnostics::OrbitalReport;
 use crate::xc::Model;
-use std::io::Write;
-use std::path::Path;
 use std::str::FromStr;
 
 /// Energy units for human-readable reports.
@@ -179,26 +181,6 @@ impl Report<'_> {
     }
 }
 
-/// Writes `bytes` to `path` atomically: a temporary file in the same directory, flushed to disk,
-/// then renamed over the target, so readers never see a half-written report.
-pub fn write_atomic(path: &Path, bytes: &[u8]) -> std::io::Result<()> {
-    let dir = match path.parent() {
-        Some(d) if !d.as_os_str().is_empty() => d,
-        _ => Path::new("."),
-    };
-    let mut tmp = tempfile::Builder::new().prefix(".sixray-").suffix(".tmp").tempfile_in(dir)?;
-    // Temporary files are private; a report is an ordinary file.
-    #[cfg(unix)]
-    {
-        use std::os::unix::fs::PermissionsExt;
-        tmp.as_file().set_permissions(std::fs::Permissions::from_mode(0o644))?;
-    }
-    tmp.write_all(bytes)?;
-    tmp.as_file().sync_all()?;
-    tmp.persist(path).map_err(|e| e.error)?;
-    Ok(())
-}
-
 #[cfg(test)]
 mod tests {
     use super::*;
@@ -211,16 +193,5 @@ mod tests {
         assert!("joule".parse::<EnergyUnit>().unwrap_err().contains("millihartree"));
         assert_eq!(EnergyUnit::Millihartree.format(-0.0123456), "-12.346");
         assert_eq!(EnergyUnit::Millihartree.format(-1e-9), "0.000");
-    }
-
-    #[test]
-    fn atomic_write_replaces_whole_files() {
-        let dir = tempfile::tempdir().unwrap();
-        let p = dir.path().join("out.json");
-        write_atomic(&p, b"first").unwrap();
-        write_atomic(&p, b"second").unwrap();
-        assert_eq!(std::fs::read(&p).unwrap(), b"second");
-        // No temporary files are left behind.
-        assert_eq!(std::fs::read_dir(dir.path()).unwrap().count(), 1);
     }
 }

@@ -139,7 +139,7 @@ pub enum CubeErrorKind {
         found: String,
     },
     /// `parse_cube` was handed gzip-compressed bytes.
-    #[error("expected cube text, found gzip-compressed data (use read_cube, which decompresses)")]
+    #[error("expected cube text, found gzip-compressed data (decompress it first, or read the file by name)")]
     Compressed,
 }
 
