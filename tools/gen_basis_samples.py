@@ -3,9 +3,9 @@
 A scenario of our own: the oxygen hydrides of the grid samples (water, hydroxide, hydroxyl
 radical; lithium hydride beside them) and hydrogen sulfide, a second-row molecule on the exact
 path. LDA (Slater + VWN) orbitals from PySCF 2.14 (libcint integrals, libxc 7.0.0), cc-pVDZ
-(aug-cc-pVDZ for the anion). Oxygen species, lithium hydride: the geometries of gen_samples.py in the shared
-tools (the same molecules as the bundled grid files). Hydrogen sulfide: S-H 1.336 Angstrom
-and H-S-H 92.1 degrees, as the shared gen_heavy.py has it.
+(aug-cc-pVDZ for the anion). Oxygen species and lithium hydride: the geometries of
+gen_samples.py in the shared tools (the same molecules as the bundled grid files). Hydrogen
+sulfide: S-H 1.336 Angstrom and H-S-H 92.1 degrees, as the shared gen_heavy.py has it.
 
 Writes OUTDIR/<name>.molden.gz (pyscf.tools.molden.from_scf, gzip) and OUTDIR/reference.json:
 per file and occupied spin-orbital (in the file's order: alpha then beta for open shells) the
