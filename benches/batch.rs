@@ -29,7 +29,7 @@ fn whole_batch(path: &Path) -> usize {
     let workflow = Workflow::load(path).expect("valid workflow");
     let total = count_orbitals(&jobs(&workflow));
     let results = run(&workflow, &BatchParams { fresh: true, ..BatchParams::default() }, &Silent);
-    let summary = SetSummary::new(&results, workflow.models.len(), workflow.report.worst);
+    let summary = SetSummary::new(&results, workflow.models.len(), workflow.report.worst, workflow.trust.tolerance);
     write(&BatchReport { workflow: &workflow, results: &results, summary: &summary }).expect("reports written");
     assert_eq!(summary.failed, 0);
     total

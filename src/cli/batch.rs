@@ -67,7 +67,7 @@ pub fn run_batch(args: BatchArgs, threads: Option<usize>) -> anyhow::Result<Stat
     let results = in_pool(threads.or(workflow.threads), || Ok(run(&workflow, &params, &display)))?;
     display.finish();
 
-    let summary = SetSummary::new(&results, workflow.models.len(), workflow.report.worst);
+    let summary = SetSummary::new(&results, workflow.models.len(), workflow.report.worst, workflow.trust.tolerance);
     let report = BatchReport { workflow: &workflow, results: &results, summary: &summary };
     let written = write(&report).with_context(|| format!("writing reports to {}", workflow.report.dir.display()))?;
     for c in &results {

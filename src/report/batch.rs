@@ -6,23 +6,36 @@
 //! ```text
 //! { "tool", "units": "hartree", "workflow": PATH, "rank_by": MODEL, "models": [...],
 //!   "summary": { "calculations": N, "completed": N, "failed": N,
+//!                "counted": COUNTED,
 //!                "models": {MODEL: {"mean_abs_self_interaction", "median_abs_self_interaction",
 //!                                   "max_abs_self_interaction", "max_at": {"calculation", "label"},
 //!                                   "mean_cancellation", "spin_orbitals"}},
-//!                "tags": {TAG: {"calculations", "models": {MODEL: {...as above}}}},
-//!                "worst": [{"calculation", "label", "spin", "model", "self_interaction", "hartree"}],
+//!                "tags": {TAG: {"calculations", "counted": COUNTED, "models": {MODEL: {...as above}}}},
+//!                "worst": [{"calculation", "label", "spin", "model", "self_interaction", "hartree",
+//!                           "counted": true | false, "left_out": REASON | null}],
 //!                "flags": {FLAG: number of orbital records}, "tolerance", "cusp_correction",
 //!                "tail_correction" },
 //!   "calculations": [ {"name", "tags", "status": "ok" | "failed", "error" (when failed),
 //!                      "failures": [{"source", "error"}], "orbitals": [...as in rank],
 //!                      "totals": {MODEL: {"perdew_zunger", "mean_cancellation"}},
-//!                      "spin_orbitals", "density_check": (as one file of `inspect --format json`) or null,
+//!                      "spin_orbitals", "counted": COUNTED (null when failed),
+//!                      "density_check": (as one file of `inspect --format json`) or null,
 //!                      "localization": [...as in rank] } ],
 //!   "report_set": ID }
+//!
+//! COUNTED = {"records": N, "spin_orbitals": N,
+//!            "left_out": {REASON: {"records": N, "spin_orbitals": N}}}
 //! ```
 //!
 //! `report_set` is the id of the set of reports one run wrote (see [`super::set`]); it is the
 //! last field.
+//!
+//! The statistics (`models`, `tags[].models`) count only the records `counted` counts: checked,
+//! unflagged, every error bar within `tolerance` (see [`crate::batch::summary`]); a model is
+//! absent from `models` when no record counts. Each left-out record appears under one REASON,
+//! the first that applies: `not-finite`, `no-error-bars`, `kind-suspicious`, `above-tolerance`,
+//! `norm-off`, `truncated-box`. The Perdew–Zunger `totals` sum over every orbital of a
+//! calculation; its `counted` says how many of them the statistics count.
 //!
 //! Nothing in a report depends on timing or on the machine, so a rerun (from the cache or not)
 //! writes the same bytes. (`report.html` shows a date: the caller's, or the newest modification
@@ -30,7 +43,7 @@
 
 use super::text::{Table, input_lines, localization_line, markdown_failures, markdown_orbitals, markdown_totals};
 use super::{EnergyUnit, Report, csv, flags_text, html, json, set};
-use crate::batch::summary::{ModelStats, SetSummary};
+use crate::batch::summary::{Coverage, LeftOut, ModelStats, SetSummary};
 use crate::batch::{CalculationResult, ReportFormat, Workflow};
 use serde_json::{Map, Value, json};
 use std::path::PathBuf;
@@ -80,6 +93,75 @@ fn per_model(report: &BatchReport, stats: &[Option<ModelStats>]) -> Value {
     Value::Object(map)
 }
 
+/// What a statistic counts, as JSON (`COUNTED` in the module docs).
+fn coverage_value(c: &Coverage) -> Value {
+    let left_out =
+        c.left_out.iter().map(|&(r, n, w)| (r.as_str().to_string(), json!({"records": n, "spin_orbitals": w}))).collect::<Map<_, _>>();
+    json!({"records": c.records, "spin_orbitals": c.spin_orbitals, "left_out": left_out})
+}
+
+/// Why a record is left out, for people: `error bar above 1.600 mEh`, or the flag's name.
+pub(crate) fn reason_text(r: LeftOut, tolerance: f64, unit: EnergyUnit) -> String {
+    match r {
+        LeftOut::NotFinite => "a value not finite".into(),
+        LeftOut::NoErrorBars => "no error bars computed".into(),
+        LeftOut::AboveTolerance => format!("error bar above {} {}", unit.format(tolerance), unit.symbol()),
+        LeftOut::KindSuspicious | LeftOut::NormOff | LeftOut::TruncatedBox => r.as_str().into(),
+    }
+}
+
+/// The reasons of what `c` leaves out, in parentheses: `(error bar above 1.600 mEh)` for one
+/// reason, `(3 error bar above 1.600 mEh, 1 norm-off)` in spin-orbitals for several.
+fn reasons_text(c: &Coverage, tolerance: f64, unit: EnergyUnit) -> String {
+    let parts: Vec<String> = match c.left_out.as_slice() {
+        [(r, _, _)] => vec![reason_text(*r, tolerance, unit)],
+        all => all.iter().map(|&(r, _, w)| format!("{w} {}", reason_text(r, tolerance, unit))).collect(),
+    };
+    format!("({})", parts.join(", "))
+}
+
+/// How many spin-orbitals a statistic counts, for a table cell: `4 of 4`, or `0 of 4 (error
+/// bar above 1.600 mEh)`.
+pub(crate) fn counted_cell(c: &Coverage, tolerance: f64, unit: EnergyUnit) -> String {
+    let cell = format!("{} of {}", c.spin_orbitals, c.total_spin_orbitals());
+    if c.left_out.is_empty() { cell } else { format!("{cell} {}", reasons_text(c, tolerance, unit)) }
+}
+
+/// Spin-orbitals left out, for a table cell: `—`, or `4 (error bar above 1.600 mEh)`.
+pub(crate) fn left_out_cell(c: &Coverage, tolerance: f64, unit: EnergyUnit) -> String {
+    if c.left_out.is_empty() { "—".into() } else { format!("{} {}", c.left_out_spin_orbitals(), reasons_text(c, tolerance, unit)) }
+}
+
+/// The sentence that says what the set statistics count (`note` follows the counts, e.g. `
+/// (the same records for every model)`): `Statistics over 38 of 48 spin-orbitals…; 10 left
+/// out (…).`, or, with nothing counted, `Nothing to compare: …`.
+pub(crate) fn coverage_sentence(c: &Coverage, tolerance: f64, unit: EnergyUnit, note: &str) -> String {
+    let total = c.total_spin_orbitals();
+    if total == 0 {
+        "Nothing to compare: no completed calculation has orbital records.".into()
+    } else if c.spin_orbitals == 0 {
+        format!(
+            "Nothing to compare: all {total} spin-orbitals left out {}; no record has its error bars within the tolerance and \
+             no flag. Their values are in the calculations' tables.",
+            reasons_text(c, tolerance, unit)
+        )
+    } else if c.left_out.is_empty() {
+        format!("Statistics over all {total} spin-orbitals{note}.")
+    } else {
+        format!(
+            "Statistics over {} of {total} spin-orbitals{note}; {} left out {}.",
+            c.spin_orbitals,
+            c.left_out_spin_orbitals(),
+            reasons_text(c, tolerance, unit)
+        )
+    }
+}
+
+/// Whether a worst-list entry is counted, for a table cell: `yes`, or `no: REASON`.
+pub(crate) fn counted_flag(left_out: Option<LeftOut>, tolerance: f64, unit: EnergyUnit) -> String {
+    left_out.map_or_else(|| "yes".into(), |r| format!("no: {}", reason_text(r, tolerance, unit)))
+}
+
 /// How many orbital records of completed calculations carry each flag, in flag order.
 fn flag_counts(report: &BatchReport) -> Vec<(&'static str, usize)> {
     let mut counts: Vec<(&'static str, usize)> = Vec::new();
@@ -100,7 +182,10 @@ pub fn to_value(report: &BatchReport) -> Value {
     let tags = s
         .tags
         .iter()
-        .map(|t| (t.tag.clone(), json!({"calculations": t.calculations, "models": per_model(report, &t.models)})))
+        .map(|t| {
+            let v = json!({"calculations": t.calculations, "counted": coverage_value(&t.coverage), "models": per_model(report, &t.models)});
+            (t.tag.clone(), v)
+        })
         .collect::<Map<_, _>>();
     let worst = s
         .worst
@@ -113,13 +198,16 @@ pub fn to_value(report: &BatchReport) -> Value {
                 "model": report.model_name(w.model),
                 "self_interaction": w.self_interaction(),
                 "hartree": w.orbital.hartree,
+                "counted": w.left_out.is_none(),
+                "left_out": w.left_out.map(LeftOut::as_str),
             })
         })
         .collect::<Vec<_>>();
     let calculations = report
         .results
         .iter()
-        .map(|c| {
+        .zip(&s.calculations)
+        .map(|(c, counted)| {
             let r = report.calculation(c);
             let mut v = json!({
                 "name": c.name,
@@ -134,6 +222,7 @@ pub fn to_value(report: &BatchReport) -> Value {
             map.insert("orbitals".into(), json!(json::orbitals(&r)));
             map.insert("totals".into(), json::totals(&r));
             map.insert("spin_orbitals".into(), json!(c.outcome.ranking.spin_orbitals));
+            map.insert("counted".into(), counted.as_ref().map_or(Value::Null, coverage_value));
             map.insert("density_check".into(), c.density.as_ref().map_or(Value::Null, crate::inspect::render::file_json));
             map.insert("localization".into(), json!(json::localization(&c.outcome.localization)));
             v
@@ -149,6 +238,7 @@ pub fn to_value(report: &BatchReport) -> Value {
             "calculations": report.results.len(),
             "completed": s.completed,
             "failed": s.failed,
+            "counted": coverage_value(&s.coverage),
             "models": per_model(report, &s.models),
             "tags": tags,
             "worst": worst,
@@ -189,8 +279,9 @@ pub fn render_markdown(report: &BatchReport, unit: EnergyUnit) -> String {
     let mut out = format!("# Self-interaction survey: {}\n\n", report.workflow_name());
     out += &format!(
         "{} calculations ({} completed, {} failed); {records} orbital records ({spin_orbitals} spin-orbitals) in the \
-         completed ones; {} models; energies in {u}. Statistics cover completed calculations, each restricted \
-         orbital counting as two spin-orbitals; δ = J + E_x + E_c.\n\n",
+         completed ones; {} models; energies in {u}. Set statistics count the records of completed calculations \
+         whose error bars are computed and within the tolerance and that carry no flag, each restricted orbital \
+         counting as two spin-orbitals; δ = J + E_x + E_c.\n\n",
         report.results.len(),
         s.completed,
         s.failed,
@@ -210,49 +301,69 @@ pub fn render_markdown(report: &BatchReport, unit: EnergyUnit) -> String {
         if wf.cusp_correction { "on" } else { "off (plain grid sums at the nuclei)" },
         if wf.tail_correction { "on (values include the estimated tail beyond each box)" } else { "off" }
     );
+    let tol = wf.trust.tolerance;
     out += "## Models across the set\n\n";
-    let mut t = Table::new(&[
-        ("model", false),
-        ("exchange", false),
-        ("correlation", false),
-        (&format!("mean |δ| ({u})"), true),
-        (&format!("median |δ| ({u})"), true),
-        (&format!("max |δ| ({u})"), true),
-        ("max at", false),
-        ("mean −E_x/J", true),
-    ]);
+    out += &coverage_sentence(&s.coverage, tol, unit, " (the same records for every model)");
+    out += "\n\n";
+    let mut t = if s.coverage.spin_orbitals == 0 {
+        // Nothing counted: the models, without numbers.
+        Table::new(&[("model", false), ("exchange", false), ("correlation", false)])
+    } else {
+        Table::new(&[
+            ("model", false),
+            ("exchange", false),
+            ("correlation", false),
+            (&format!("mean |δ| ({u})"), true),
+            (&format!("median |δ| ({u})"), true),
+            (&format!("max |δ| ({u})"), true),
+            ("max at", false),
+            ("mean −E_x/J", true),
+        ])
+    };
     for (m, st) in wf.models.iter().zip(&s.models) {
         let mut row = vec![m.name.clone(), m.exchange.id(), m.correlation.as_ref().map_or("—".into(), |c| c.id())];
-        row.extend(stats_cells(st.as_ref(), unit));
-        row.push(st.as_ref().map_or("—".into(), |st| format!("{} / {}", st.max_at.0, st.max_at.1)));
-        row.push(st.as_ref().map_or("—".into(), |st| format!("{:.4}", st.mean_cancellation)));
+        if s.coverage.spin_orbitals > 0 {
+            row.extend(stats_cells(st.as_ref(), unit));
+            row.push(st.as_ref().map_or("—".into(), |st| format!("{} / {}", st.max_at.0, st.max_at.1)));
+            row.push(st.as_ref().map_or("—".into(), |st| format!("{:.4}", st.mean_cancellation)));
+        }
         t.rows.push(row);
     }
     out += &t.markdown();
 
     out += &format!("\n## Perdew–Zunger correction per calculation ({u})\n\n");
-    let mut t = Table::new(&[("calculation", false), ("tags", false)]);
+    out += "Sums over every orbital of a calculation, counted in the statistics or not; `counted` is how many of its \
+            spin-orbitals the statistics count (a sum over records left out carries their error bars, in the \
+            calculation's table).\n\n";
+    let mut t = Table::new(&[("calculation", false), ("tags", false), ("counted", false)]);
     for m in &wf.models {
         t.push(m.name.clone(), true);
     }
-    for c in report.results {
-        let mut row = vec![c.name.clone(), c.tags.join(", ")];
+    for (c, counted) in report.results.iter().zip(&s.calculations) {
+        let mut row = vec![c.name.clone(), c.tags.join(", "), counted.as_ref().map_or("failed".into(), |k| counted_cell(k, tol, unit))];
         for tot in &c.outcome.ranking.totals {
             row.push(if c.is_ok() { unit.format(tot.perdew_zunger) } else { "failed".into() });
         }
-        row.resize(2 + wf.models.len(), "failed".into());
+        row.resize(3 + wf.models.len(), "failed".into());
         t.rows.push(row);
     }
     out += &t.markdown();
 
     if !s.tags.is_empty() {
         out += &format!("\n## By tag: mean |δ| ({u})\n\n");
-        let mut t = Table::new(&[("tag", false), ("calculations", true)]);
+        out += "Over each tag's counted records (spin-orbitals `counted` of all, the rest `left out`).\n\n";
+        let mut t = Table::new(&[("tag", false), ("calculations", true), ("counted", true), ("left out", false)]);
         for m in &wf.models {
             t.push(m.name.clone(), true);
         }
         for tag in &s.tags {
-            let mut row = vec![tag.tag.clone(), tag.calculations.to_string()];
+            let c = &tag.coverage;
+            let mut row = vec![
+                tag.tag.clone(),
+                tag.calculations.to_string(),
+                format!("{} of {}", c.spin_orbitals, c.total_spin_orbitals()),
+                left_out_cell(c, tol, unit),
+            ];
             row.extend(tag.models.iter().map(|st| st.as_ref().map_or("—".into(), |st| unit.format(st.mean_abs))));
             t.rows.push(row);
         }
@@ -260,6 +371,8 @@ pub fn render_markdown(report: &BatchReport, unit: EnergyUnit) -> String {
     }
 
     out += &format!("\n## The {} worst orbitals of the set\n\n", s.worst.len());
+    out += "Every record of the completed calculations by |δ|, counted in the statistics or not (`counted` says which, \
+            and why not).\n\n";
     let mut t = Table::new(&[
         ("#", true),
         ("calculation", false),
@@ -269,6 +382,7 @@ pub fn render_markdown(report: &BatchReport, unit: EnergyUnit) -> String {
         (&format!("δ ({u})"), true),
         (&format!("J ({u})"), true),
         ("flags", false),
+        ("counted", false),
     ]);
     for (i, w) in s.worst.iter().enumerate() {
         let errors = w.orbital.errors.as_ref();
@@ -281,6 +395,7 @@ pub fn render_markdown(report: &BatchReport, unit: EnergyUnit) -> String {
             unit.format_with_error(w.self_interaction(), errors.map(|e| e.models[w.model].self_interaction)),
             unit.format_with_error(w.orbital.hartree, errors.map(|e| e.hartree)),
             flags_text(&w.orbital),
+            counted_flag(w.left_out, tol, unit),
         ]);
     }
     out += &t.markdown();

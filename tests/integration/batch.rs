@@ -52,8 +52,8 @@ fn demo_workflow_reports_agree_with_rank() {
 
     let report = read_json(&out.join("report.json"));
     let calcs = report["calculations"].as_array().unwrap();
-    // Four calculations, water's localized orbitals a fifth.
-    assert_eq!(calcs.len(), 5);
+    // Six calculations, water's localized orbitals a seventh.
+    assert_eq!(calcs.len(), 7);
     assert!(calcs.iter().all(|c| c["status"] == "ok"));
     let localized = calcs.iter().find(|c| c["name"] == "water (localized)").expect("water's localized set");
     assert_eq!(localized["orbitals"].as_array().unwrap().len(), 5);
@@ -64,7 +64,7 @@ fn demo_workflow_reports_agree_with_rank() {
 
     // The same orbitals through `rank` give the same numbers.
     let water = calcs.iter().find(|c| c["name"] == "water").unwrap();
-    let mut args = vec!["rank".to_string(), "-f".into(), "json".into(), root().join("samples/water/occupied.cube.gz").display().to_string()];
+    let mut args = vec!["rank".to_string(), "-f".into(), "json".into(), root().join("samples/basis/water.molden.gz").display().to_string()];
     for m in &models {
         if m != "slater-vwn5" {
             args.extend(["-m".into(), m.clone()]);
@@ -78,7 +78,7 @@ fn demo_workflow_reports_agree_with_rank() {
         assert_eq!(a["models"]["pbe"], b["models"]["pbe"]);
     }
     // Every calculation's Perdew–Zunger correction is there, and the summary covers the set.
-    assert_eq!(report["summary"]["completed"], 5);
+    assert_eq!(report["summary"]["completed"], 7);
     let radical = calcs.iter().find(|c| c["name"] == "hydroxyl radical").unwrap();
     assert_eq!(radical["spin_orbitals"], 9);
     assert!(radical["totals"]["lsda"]["perdew_zunger"].is_f64());
@@ -92,7 +92,7 @@ fn demo_workflow_reports_agree_with_rank() {
     assert!(csv.starts_with("calculation,status,tags,rank,source,label,spin,"));
 
     let md = std::fs::read_to_string(out.join("report.md")).unwrap();
-    for section in ["## Models across the set", "## Perdew–Zunger correction per calculation", "## By tag", "worst orbitals", "### hydroxyl radical (neutral, radical)"] {
+    for section in ["## Models across the set", "## Perdew–Zunger correction per calculation", "## By tag", "worst orbitals", "### hydroxyl radical (oxygen, neutral, radical)"] {
         assert!(md.contains(section), "{section}");
     }
     // The report says which corrections the values carry.

@@ -37,6 +37,17 @@ pub fn shared_dir(test: &str) -> Option<PathBuf> {
     }
 }
 
+/// Whether an orbital record of a batch `report.json` qualifies for the set statistics: error
+/// bars computed, no flag, the bars of J and of every model's δ within `tolerance` (hartree) —
+/// the rule the reports state, applied here from the JSON alone.
+pub fn trustworthy(o: &serde_json::Value, tolerance: f64) -> bool {
+    let e = &o["errors"];
+    !e.is_null()
+        && o["flags"].as_array().is_some_and(|f| f.is_empty())
+        && number(&e["hartree"]) <= tolerance
+        && e["models"].as_object().is_some_and(|m| m.values().all(|m| number(&m["self_interaction"]) <= tolerance))
+}
+
 /// Parsed `reference/analytic.json` (libxc 7.0.0 through PySCF 2.14), if present.
 pub fn analytic(test: &str) -> Option<serde_json::Value> {
     let path = shared_dir(test)?.join("reference/analytic.json");

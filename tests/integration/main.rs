@@ -8,6 +8,7 @@ mod cli;
 mod common;
 mod cusp;
 mod faults_io;
+mod faults_stats;
 mod functionals;
 mod html;
 mod inspect;

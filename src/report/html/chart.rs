@@ -1,14 +1,18 @@
 //! What the charts of `report.html` plot, as plain numbers in hartree (the drawing converts to
 //! the report's unit), so that tests can hold them against `report.json`.
 //!
-//! - δ distribution: per model, δ_i of every orbital record of the completed calculations, with
-//!   its error bar, and the set's median |δ| (restricted orbitals count twice, as everywhere);
-//! - Perdew–Zunger: per calculation, −Σ_i g_i δ_i under each model (none for a failed one);
-//! - cancellation: per model and orbital, c_i = −E_x,i/J_i against J_i. Its bar is the
+//! - δ distribution: per model, δ_i of every orbital record the set statistics count (see
+//!   [`crate::batch::summary`]: checked, unflagged, bars within the tolerance), with its error
+//!   bar, and the set's median |δ| over the same records (restricted orbitals count twice, as
+//!   everywhere);
+//! - Perdew–Zunger: per calculation, −Σ_i g_i δ_i under each model (none for a failed one), a sum
+//!   over all its orbitals, with how many of its spin-orbitals the statistics leave out;
+//! - cancellation: per model and counted record, c_i = −E_x,i/J_i against J_i. Its bar is the
 //!   first-order worst case from the bars of E_x and J, |Δc| ≤ (σ_Ex + c σ_J)/J (bars are bounds
 //!   built as sums, so they are combined as sums too).
 
 use super::super::batch::BatchReport;
+use crate::batch::summary::LeftOut;
 use crate::diagnostics::{Flag, OrbitalReport};
 
 /// One orbital record in the δ distribution of one model.
@@ -31,8 +35,8 @@ pub struct DeltaPoint {
 pub struct DeltaRow {
     /// Model name.
     pub model: String,
-    /// Every orbital record of the completed calculations, calculation by calculation, each in
-    /// ranked order.
+    /// Every counted orbital record of the completed calculations, calculation by calculation,
+    /// each in ranked order.
     pub points: Vec<DeltaPoint>,
     /// Median |δ| over spin-orbitals, hartree (`None` when nothing completed).
     pub median_abs: Option<f64>,
@@ -45,6 +49,8 @@ pub struct PzGroup {
     pub calculation: String,
     /// Per model, hartree; `None` for a failed calculation (its orbital set is incomplete).
     pub values: Option<Vec<f64>>,
+    /// Spin-orbitals of the calculation the set statistics leave out (0 for a failed one).
+    pub left_out: u32,
 }
 
 /// One orbital record under one model in the cancellation chart.
@@ -69,7 +75,7 @@ pub struct CancellationPoint {
 pub struct CancellationSeries {
     /// Model name.
     pub model: String,
-    /// Every orbital record of the completed calculations.
+    /// Every counted orbital record of the completed calculations.
     pub points: Vec<CancellationPoint>,
 }
 
@@ -101,6 +107,12 @@ fn completed_records<'a>(report: &'a BatchReport) -> impl Iterator<Item = (&'a s
     report.results.iter().filter(|c| c.is_ok()).flat_map(|c| c.outcome.ranking.orbitals.iter().map(move |o| (c.name.as_str(), o)))
 }
 
+/// The records the set statistics count, with their calculation's name.
+fn counted_records<'a>(report: &'a BatchReport) -> impl Iterator<Item = (&'a str, &'a OrbitalReport)> + 'a {
+    let tolerance = report.summary.tolerance;
+    completed_records(report).filter(move |(_, o)| LeftOut::of(o, tolerance).is_none())
+}
+
 /// The δ distribution, one row per model in model order.
 pub fn delta_rows(report: &BatchReport) -> Vec<DeltaRow> {
     report
@@ -110,7 +122,7 @@ pub fn delta_rows(report: &BatchReport) -> Vec<DeltaRow> {
         .enumerate()
         .map(|(m, model)| DeltaRow {
             model: model.name.clone(),
-            points: completed_records(report)
+            points: counted_records(report)
                 .map(|(calc, o)| DeltaPoint {
                     calculation: calc.to_string(),
                     label: o.label.clone(),
@@ -129,9 +141,11 @@ pub fn pz_groups(report: &BatchReport) -> Vec<PzGroup> {
     report
         .results
         .iter()
-        .map(|c| PzGroup {
+        .zip(&report.summary.calculations)
+        .map(|(c, counted)| PzGroup {
             calculation: c.name.clone(),
             values: c.is_ok().then(|| c.outcome.ranking.totals.iter().map(|t| t.perdew_zunger).collect()),
+            left_out: counted.as_ref().map_or(0, |k| k.left_out_spin_orbitals()),
         })
         .collect()
 }
@@ -145,7 +159,7 @@ pub fn cancellation_series(report: &BatchReport) -> Vec<CancellationSeries> {
         .enumerate()
         .map(|(m, model)| CancellationSeries {
             model: model.name.clone(),
-            points: completed_records(report)
+            points: counted_records(report)
                 .map(|(calc, o)| {
                     let e = o.models[m];
                     let ratio_error = o.errors.as_ref().filter(|_| o.hartree > 0.0).map(|err| {

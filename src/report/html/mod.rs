@@ -14,7 +14,7 @@ pub mod chart;
 pub mod date;
 pub mod svg;
 
-use super::batch::BatchReport;
+use super::batch::{BatchReport, counted_cell, counted_flag, coverage_sentence, left_out_cell};
 use super::{EnergyUnit, flags_text};
 use crate::batch::Workflow;
 use crate::diagnostics::{Flag, OrbitalReport};
@@ -139,7 +139,7 @@ pub fn render(report: &BatchReport, unit: EnergyUnit, dated: Dated) -> String {
     );
     out += &header(report, unit, dated);
     let verdict = chart::verdict(report);
-    out += &verdict_section(&verdict, unit);
+    out += &verdict_section(&verdict, report.summary.coverage.spin_orbitals, report.summary.coverage.total_spin_orbitals(), unit);
     out += "<nav class=\"toc\" aria-label=\"Contents\"><a href=\"#models\">Models across the set</a><a href=\"#perdew-zunger\">Perdew–Zunger corrections</a>\
             <a href=\"#cancellation\">Cancellation</a>";
     if !report.summary.tags.is_empty() {
@@ -208,7 +208,8 @@ fn header(report: &BatchReport, unit: EnergyUnit, dated: Dated) -> String {
     )
 }
 
-fn verdict_section(v: &Verdict, unit: EnergyUnit) -> String {
+/// The verdict: `counted` of `spin_orbitals` are in the set statistics.
+fn verdict_section(v: &Verdict, counted: u32, spin_orbitals: u32, unit: EnergyUnit) -> String {
     let (class, mark, headline) = if !v.failed.is_empty() {
         ("fail", "!", format!("{} of {} calculations failed", v.failed.len(), v.calculations))
     } else if v.records > 0 && v.unchecked == v.records {
@@ -227,6 +228,7 @@ fn verdict_section(v: &Verdict, unit: EnergyUnit) -> String {
          <div class=\"tile{}\"><b>{}</b><span>calculations failed</span></div>\
          <div class=\"tile\"><b>{} / {checked}</b><span>orbital records with an error bar (J or δ) above {tol}</span></div>\
          <div class=\"tile\"><b>{} / {}</b><span>orbital records flagged by the grid checks</span></div>\
+         <div class=\"tile{}\"><b>{counted} / {spin_orbitals}</b><span>spin-orbitals in the statistics (unflagged, bars within {tol})</span></div>\
          </div>\n",
         v.completed,
         v.calculations,
@@ -235,6 +237,7 @@ fn verdict_section(v: &Verdict, unit: EnergyUnit) -> String {
         v.above_tolerance,
         v.flagged,
         v.records,
+        if counted == 0 && spin_orbitals > 0 { " alert" } else { "" },
     );
     if !v.flags.is_empty() {
         let list = v.flags.iter().map(|(f, n)| format!("{n} <span class=\"flag\">{}</span>", f.as_str())).collect::<Vec<_>>().join(", ");
@@ -270,18 +273,34 @@ fn verdict_section(v: &Verdict, unit: EnergyUnit) -> String {
     out
 }
 
+/// The sentence saying what the set statistics count, for the page.
+fn coverage_html(report: &BatchReport, unit: EnergyUnit) -> String {
+    let s = report.summary;
+    esc(&coverage_sentence(&s.coverage, s.tolerance, unit, " (the same records for every model)"))
+}
+
+/// What a chart of the statistics' records shows when there are none.
+fn nothing_counted(report: &BatchReport) -> &'static str {
+    if report.summary.coverage.total_spin_orbitals() == 0 {
+        "No completed calculation: nothing to plot."
+    } else {
+        "No record within its error bars: nothing to plot."
+    }
+}
+
 fn models_section(report: &BatchReport, unit: EnergyUnit) -> String {
     let u = unit.symbol();
-    let head = [
-        th("model", false),
-        th("exchange", false),
-        th("correlation", false),
-        th(&format!("mean |δ| ({u})"), true),
-        th(&format!("median |δ| ({u})"), true),
-        th(&format!("max |δ| ({u})"), true),
-        th("max at", false),
-        th("mean −E<sub>x</sub>/J", true),
-    ];
+    let counted = report.summary.coverage.spin_orbitals > 0;
+    let mut head = vec![th("model", false), th("exchange", false), th("correlation", false)];
+    if counted {
+        head.extend([
+            th(&format!("mean |δ| ({u})"), true),
+            th(&format!("median |δ| ({u})"), true),
+            th(&format!("max |δ| ({u})"), true),
+            th("max at", false),
+            th("mean −E<sub>x</sub>/J", true),
+        ]);
+    }
     let rows: Vec<Vec<String>> = report
         .workflow
         .models
@@ -298,41 +317,58 @@ fn models_section(report: &BatchReport, unit: EnergyUnit) -> String {
                     row.push(td(&format!("{} / {}", s.max_at.0, s.max_at.1)));
                     row.push(td_num(&format!("{:.4}", s.mean_cancellation), s.mean_cancellation));
                 }
-                None => row.extend(std::iter::repeat_n(td("—"), 5)),
+                None if counted => row.extend(std::iter::repeat_n(td("—"), 5)),
+                None => {}
             }
             row
         })
         .collect();
     let rows_data = chart::delta_rows(report);
+    let lead = if counted {
+        format!(
+            "How far each model is from cancelling every orbital's self-repulsion. {} Records count when their error bars are \
+             computed and within the tolerance and they carry no flag; every record is in the calculations' tables below. The \
+             best model has its points furthest left.",
+            coverage_html(report, unit)
+        )
+    } else {
+        format!("{} No model can be told better than another from these records.", coverage_html(report, unit))
+    };
+    let caption = if counted { format!("Per model over the counted records; {u}.") } else { "The models (no record to compare them on).".into() };
     format!(
         "<section id=\"models\">\n<h2>Models across the set</h2>\n\
-         <p class=\"lead\">How far each model is from cancelling every orbital's self-repulsion, over the orbitals of the completed \
-         calculations. The best model has its points furthest left.</p>\n{}\
+         <p class=\"lead\">{lead}</p>\n{}\
          <figure class=\"chart\" id=\"fig-delta\">\n{}<figcaption><b>Self-interaction error per orbital.</b> One row per model, one \
-         marker per orbital record, at its |δ| on a logarithmic axis; filled markers have δ &gt; 0 (self-repulsion left over), \
-         open ones δ &lt; 0 (more than cancelled). The dark bar marks the median |δ| over spin-orbitals, as in the table; \
-         horizontal lines are error bars. Records are spread vertically only to keep them apart: each record sits at the same \
-         height in every row.</figcaption>\n</figure>\n</section>\n",
-        table("table-models", &format!("Per model over the completed calculations; {u}."), &head, &rows, true),
-        delta_chart(&rows_data, unit)
+         marker per counted orbital record (the records of the table; those left out are not drawn), at its |δ| on a \
+         logarithmic axis; filled markers have δ &gt; 0 (self-repulsion left over), open ones δ &lt; 0 (more than cancelled). \
+         The dark bar marks the median |δ| over spin-orbitals, as in the table; horizontal lines are error bars. Records are \
+         spread vertically only to keep them apart: each record sits at the same height in every row.</figcaption>\n</figure>\n</section>\n",
+        table("table-models", &caption, &head, &rows, true),
+        delta_chart(&rows_data, unit, nothing_counted(report))
     )
 }
 
 fn pz_section(report: &BatchReport, unit: EnergyUnit) -> String {
     let u = unit.symbol();
     let wf = report.workflow;
-    let mut head = vec![th("calculation", false), th("tags", false), th("status", false), th("spin-orbitals", true)];
+    let mut head = vec![th("calculation", false), th("tags", false), th("status", false), th("spin-orbitals", true), th("counted", true)];
     head.extend((0..wf.models.len()).map(|m| format!(r#"<th class="num" scope="col">{}{}</th>"#, key(&look(m)), esc(&wf.models[m].name))));
+    let s = report.summary;
     let rows: Vec<Vec<String>> = report
         .results
         .iter()
+        .zip(&s.calculations)
         .enumerate()
-        .map(|(i, c)| {
+        .map(|(i, (c, counted))| {
             let mut row = vec![
                 format!(r##"<td><a href="#calc-{}">{}</a></td>"##, i + 1, esc(&c.name)),
                 td(&c.tags.join(", ")),
                 td(if c.is_ok() { "ok" } else { "failed" }),
                 td_num(&c.outcome.ranking.spin_orbitals.to_string(), f64::from(c.outcome.ranking.spin_orbitals)),
+                match counted {
+                    Some(k) => td_num(&esc(&counted_cell(k, s.tolerance, unit)), f64::from(k.spin_orbitals)),
+                    None => r#"<td class="num failed">failed</td>"#.into(),
+                },
             ];
             for m in 0..wf.models.len() {
                 row.push(match c.outcome.ranking.totals.get(m) {
@@ -347,10 +383,13 @@ fn pz_section(report: &BatchReport, unit: EnergyUnit) -> String {
     format!(
         "<section id=\"perdew-zunger\">\n<h2>Perdew–Zunger correction per calculation</h2>\n\
          <p class=\"lead\">The correction −Σ<sub>i</sub> g<sub>i</sub> δ<sub>i</sub> (g = 2 for a restricted orbital) that \
-         removing every orbital's self-interaction would add to the total energy, under each model.</p>\n\
+         removing every orbital's self-interaction would add to the total energy, under each model. It sums over every orbital \
+         of a calculation, counted in the set statistics or not; <i>counted</i> in the table says how many of its spin-orbitals \
+         the statistics count (a sum over records left out carries their error bars, in the calculation's table).</p>\n\
          <figure class=\"chart\" id=\"fig-pz\">\n{}<figcaption><b>Perdew–Zunger correction per calculation and model</b>, {u}. \
-         Each model keeps its colour and fill pattern; failed calculations have no bars (their orbital sets are incomplete). \
-         The numbers are in the table below.</figcaption>\n</figure>\n{}</section>\n",
+         Each model keeps its colour and fill pattern; failed calculations have no bars (their orbital sets are incomplete); \
+         a * after a name marks a calculation with records left out of the statistics. The numbers are in the table \
+         below.</figcaption>\n</figure>\n{}</section>\n",
         pz_chart(&groups, &wf.models.iter().map(|m| m.name.clone()).collect::<Vec<_>>(), unit),
         table("table-pz", &format!("Perdew–Zunger correction per calculation; {u}."), &head, &rows, true)
     )
@@ -358,16 +397,18 @@ fn pz_section(report: &BatchReport, unit: EnergyUnit) -> String {
 
 fn cancellation_section(report: &BatchReport, unit: EnergyUnit) -> String {
     let series = chart::cancellation_series(report);
+    let counted = coverage_html(report, unit);
     format!(
         "<section id=\"cancellation\">\n<h2>Cancellation of the self-repulsion</h2>\n\
          <p class=\"lead\">The share −E<sub>x</sub>/J of each orbital's Hartree self-repulsion J that a model's exchange \
          self-energy cancels; exact exchange cancels all of it (ratio 1). Below the line a model's exchange leaves part of J \
          uncancelled, above it it cancels more than J.</p>\n\
          <figure class=\"chart\" id=\"fig-cancellation\">\n{}<figcaption><b>Cancellation ratio −E<sub>x</sub>/J against J</b>, \
-         one colour and marker shape per model, every orbital record of the completed calculations. The dashed line at 1 is \
-         exact exchange. Horizontal error bars: the bar of J; vertical: (σ<sub>Ex</sub> + c·σ<sub>J</sub>)/J, the first-order \
-         worst case from the bars of E<sub>x</sub> and J.</figcaption>\n</figure>\n</section>\n",
-        cancellation_chart(&series, unit)
+         one colour and marker shape per model, the records the set statistics count (as for the mean −E<sub>x</sub>/J of the \
+         models' table: {counted}). The dashed line at 1 is exact exchange. Horizontal error bars: the bar of J; vertical: \
+         (σ<sub>Ex</sub> + c·σ<sub>J</sub>)/J, the first-order worst case from the bars of E<sub>x</sub> and J.</figcaption>\n\
+         </figure>\n</section>\n",
+        cancellation_chart(&series, unit, nothing_counted(report))
     )
 }
 
@@ -378,13 +419,19 @@ fn tags_section(report: &BatchReport, unit: EnergyUnit) -> String {
     }
     let u = unit.symbol();
     let wf = report.workflow;
-    let mut head = vec![th("tag", false), th("calculations", true)];
+    let mut head = vec![th("tag", false), th("calculations", true), th("counted", true), th("left out", false)];
     head.extend((0..wf.models.len()).map(|m| format!(r#"<th class="num" scope="col">{}{}</th>"#, key(&look(m)), esc(&wf.models[m].name))));
     let rows: Vec<Vec<String>> = s
         .tags
         .iter()
         .map(|t| {
-            let mut row = vec![td(&t.tag), td_num(&t.calculations.to_string(), t.calculations as f64)];
+            let c = &t.coverage;
+            let mut row = vec![
+                td(&t.tag),
+                td_num(&t.calculations.to_string(), t.calculations as f64),
+                td_num(&format!("{} of {}", c.spin_orbitals, c.total_spin_orbitals()), f64::from(c.spin_orbitals)),
+                td(&left_out_cell(c, s.tolerance, unit)),
+            ];
             row.extend(t.models.iter().map(|st| match st {
                 Some(st) => td_num(&num(unit, st.mean_abs), st.mean_abs),
                 None => td("—"),
@@ -394,7 +441,13 @@ fn tags_section(report: &BatchReport, unit: EnergyUnit) -> String {
         .collect();
     format!(
         "<section id=\"tags\">\n<h2>By tag</h2>\n{}</section>\n",
-        table("table-tags", &format!("Mean |δ| per spin-orbital of the completed calculations carrying each tag; {u}."), &head, &rows, false)
+        table(
+            "table-tags",
+            &format!("Mean |δ| per spin-orbital over the counted records of the completed calculations carrying each tag; {u}."),
+            &head,
+            &rows,
+            false
+        )
     )
 }
 
@@ -410,6 +463,7 @@ fn worst_section(report: &BatchReport, unit: EnergyUnit) -> String {
         th(&format!("δ ({u})"), true),
         th(&format!("J ({u})"), true),
         th("flags", false),
+        th("counted", false),
     ];
     let rows: Vec<Vec<String>> = s
         .worst
@@ -426,11 +480,14 @@ fn worst_section(report: &BatchReport, unit: EnergyUnit) -> String {
                 td_err(unit, w.self_interaction(), errors.map(|e| e.models[w.model].self_interaction)),
                 td_err(unit, w.orbital.hartree, errors.map(|e| e.hartree)),
                 flag_chips(&w.orbital),
+                td(&counted_flag(w.left_out, s.tolerance, unit)),
             ]
         })
         .collect();
     format!(
-        "<section id=\"worst\">\n<h2>The {} worst orbitals of the set</h2>\n{}</section>\n",
+        "<section id=\"worst\">\n<h2>The {} worst orbitals of the set</h2>\n\
+         <p class=\"lead\">Every record of the completed calculations by |δ|, counted in the statistics or not: <i>counted</i> says \
+         which, and why not.</p>\n{}</section>\n",
         s.worst.len(),
         table("table-worst", &format!("(orbital, model) pairs by |δ| over the completed calculations; {u}; error bars below each value."), &head, &rows, true)
     )
@@ -560,7 +617,7 @@ fn spread(k: usize) -> f64 {
 }
 
 /// The δ distribution: one row per model, |δ| on a log axis.
-pub fn delta_chart(rows: &[DeltaRow], unit: EnergyUnit) -> String {
+pub fn delta_chart(rows: &[DeltaRow], unit: EnergyUnit, empty: &str) -> String {
     let (u, sym) = (unit.per_hartree(), unit.symbol());
     let (left, right, top, row_h, bottom) = (178.0, 150.0, 46.0, 46.0, 58.0);
     let height = top + rows.len() as f64 * row_h + bottom;
@@ -571,7 +628,7 @@ pub fn delta_chart(rows: &[DeltaRow], unit: EnergyUnit) -> String {
                 let max = r.points.iter().map(|p| p.self_interaction.abs()).fold(0.0, f64::max);
                 format!("{}: median |δ| {} {sym}, largest {} {sym}", r.model, num(unit, med), num(unit, max))
             }
-            None => format!("{}: no completed calculation", r.model),
+            None => format!("{}: no record to compare", r.model),
         })
         .collect::<Vec<_>>()
         .join("; ");
@@ -579,7 +636,7 @@ pub fn delta_chart(rows: &[DeltaRow], unit: EnergyUnit) -> String {
     let positive: Vec<f64> =
         rows.iter().flat_map(|r| r.points.iter().map(|p| p.self_interaction.abs() * u)).filter(|v| *v > 0.0 && v.is_finite()).collect();
     if positive.is_empty() {
-        let _ = write!(out, r#"<text x="{}" y="{}" text-anchor="middle" fill="{MUTED}">No completed calculation: nothing to plot.</text></svg>"#, W / 2.0, height / 2.0);
+        let _ = write!(out, r#"<text x="{}" y="{}" text-anchor="middle" fill="{MUTED}">{}</text></svg>"#, W / 2.0, height / 2.0, esc(empty));
         return out + "\n";
     }
     let (lo, hi) = Log10::decades(positive.iter().copied().fold(f64::INFINITY, f64::min), positive.iter().copied().fold(0.0, f64::max));
@@ -759,18 +816,21 @@ pub fn pz_chart(groups: &[PzGroup], models: &[String], unit: EnergyUnit) -> Stri
         let gx = left + g as f64 * gw;
         let cx = gx + gw / 2.0;
         let ly = top + plot_h + if slanted { 14.0 } else { 22.0 };
+        // A * marks a calculation with records left out of the statistics.
+        let mark = if group.left_out > 0 { " *" } else { "" };
         let (anchor, turn, label) = if slanted {
-            ("end", format!(r#" transform="rotate(-40 {} {})""#, n1(cx), n1(ly)), clip(&group.calculation, 20))
+            ("end", format!(r#" transform="rotate(-40 {} {})""#, n1(cx), n1(ly)), clip(&group.calculation, 20) + mark)
         } else {
-            ("middle", String::new(), clip(&group.calculation, (gw / 8.0) as usize))
+            ("middle", String::new(), clip(&group.calculation, ((gw / 8.0) as usize).saturating_sub(mark.len())) + mark)
         };
         let _ = write!(
             out,
-            r#"<text x="{}" y="{}" text-anchor="{anchor}"{turn} font-weight="600">{}<title>{}</title></text>"#,
+            r#"<text x="{}" y="{}" text-anchor="{anchor}"{turn} font-weight="600">{}<title>{}{}</title></text>"#,
             n1(cx),
             n1(ly),
             esc(&label),
-            esc(&group.calculation)
+            esc(&group.calculation),
+            if group.left_out > 0 { format!(" ({} spin-orbitals left out of the statistics)", group.left_out) } else { String::new() }
         );
         if g > 0 {
             let _ = write!(out, r#"<path d="M{0},{1}V{2}" stroke="{GRID}" stroke-dasharray="3 3"/>"#, n1(gx), n1(top), n1(top + plot_h + 8.0));
@@ -802,7 +862,7 @@ pub fn pz_chart(groups: &[PzGroup], models: &[String], unit: EnergyUnit) -> Stri
 }
 
 /// The cancellation ratio −E_x/J against J, one series per model.
-pub fn cancellation_chart(series: &[CancellationSeries], unit: EnergyUnit) -> String {
+pub fn cancellation_chart(series: &[CancellationSeries], unit: EnergyUnit, empty: &str) -> String {
     let (u, sym) = (unit.per_hartree(), unit.symbol());
     // Tall enough for the legend beside it.
     let (left, right, top, plot_h, bottom) = (84.0, 200.0, 24.0, (24.0 * (series.len() as f64 + 4.0)).max(420.0), 62.0);
@@ -822,11 +882,11 @@ pub fn cancellation_chart(series: &[CancellationSeries], unit: EnergyUnit) -> St
         "chart-cancellation",
         height,
         &format!("Cancellation ratio −E_x/J against the Hartree self-repulsion J ({sym}), per model; exact exchange at 1"),
-        &if desc.is_empty() { "No completed calculation.".to_string() } else { format!("−E_x/J per model: {desc}.") },
+        &if desc.is_empty() { "No record to plot.".to_string() } else { format!("−E_x/J per model: {desc}.") },
     );
     let points: Vec<(f64, f64)> = series.iter().flat_map(|s| s.points.iter().map(|p| (p.hartree * u, p.ratio))).collect();
     if points.is_empty() {
-        let _ = write!(out, r#"<text x="{}" y="{}" text-anchor="middle" fill="{MUTED}">No completed calculation: nothing to plot.</text></svg>"#, W / 2.0, height / 2.0);
+        let _ = write!(out, r#"<text x="{}" y="{}" text-anchor="middle" fill="{MUTED}">{}</text></svg>"#, W / 2.0, height / 2.0, esc(empty));
         return out + "\n";
     }
     let (xlo, xhi) = points.iter().fold((f64::INFINITY, f64::NEG_INFINITY), |(a, b), p| (a.min(p.0), b.max(p.0)));

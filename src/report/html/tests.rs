@@ -34,7 +34,7 @@ fn orbital(label: &str, spin: Spin, hartree: f64, models: &[(f64, f64)], errors:
         errors: errors.map(|e| OrbitalErrors {
             hartree: e,
             models: (0..models.len())
-                .map(|m| ModelErrors { exchange: 0.7 * e + 1e-4 * m as f64, correlation: 0.1 * e, self_interaction: 1.3 * e + 2e-4 * m as f64 })
+                .map(|m| ModelErrors { exchange: 0.7 * e + 1e-5 * m as f64, correlation: 0.1 * e, self_interaction: 1.3 * e + 2e-5 * m as f64 })
                 .collect(),
         }),
         flags: flags.to_vec(),
@@ -123,6 +123,22 @@ fn ok_calculations(v: &Value) -> impl Iterator<Item = &Value> {
     v["calculations"].as_array().unwrap().iter().filter(|c| c["status"] == "ok")
 }
 
+/// Whether a record of the JSON report qualifies for the set statistics (checked, unflagged,
+/// every bar within the tolerance), decided here from the JSON alone.
+fn counted(o: &Value, tolerance: f64) -> bool {
+    let e = &o["errors"];
+    !e.is_null()
+        && o["flags"].as_array().unwrap().is_empty()
+        && e["hartree"].as_f64().unwrap() <= tolerance
+        && e["models"].as_object().unwrap().values().all(|m| m["self_interaction"].as_f64().unwrap() <= tolerance)
+}
+
+/// The counted records of the completed calculations, with their calculation.
+fn counted_records(v: &Value) -> impl Iterator<Item = (&Value, &Value)> {
+    let tolerance = v["summary"]["tolerance"].as_f64().unwrap();
+    ok_calculations(v).flat_map(move |c| c["orbitals"].as_array().unwrap().iter().filter(move |o| counted(o, tolerance)).map(move |o| (c, o)))
+}
+
 fn opt(v: &Value) -> Option<f64> {
     v.as_f64()
 }
@@ -139,27 +155,26 @@ fn weighted_median_abs(points: &[DeltaPoint]) -> f64 {
 fn chart_data_is_what_the_json_report_says() {
     let wf = workflow(&["lsda", "pbe", "xalpha=0.75"]);
     let results = results();
-    let summary = SetSummary::new(&results, wf.models.len(), wf.report.worst);
+    let summary = SetSummary::new(&results, wf.models.len(), wf.report.worst, wf.trust.tolerance);
     let report = BatchReport { workflow: &wf, results: &results, summary: &summary };
     let v = to_value(&report);
     let names = models_of(&v);
 
-    // δ distribution: every orbital of every completed calculation, per model, with its bar.
+    // δ distribution: every counted orbital of the completed calculations, per model, with its
+    // bar: the records the statistics count.
     let rows = chart::delta_rows(&report);
     assert_eq!(rows.len(), names.len());
     for (row, name) in rows.iter().zip(&names) {
         assert_eq!(&row.model, name);
-        let expected: Vec<(String, String, u32, f64, Option<f64>)> = ok_calculations(&v)
-            .flat_map(|c| {
-                c["orbitals"].as_array().unwrap().iter().map(move |o| {
-                    (
-                        c["name"].as_str().unwrap().to_string(),
-                        o["label"].as_str().unwrap().to_string(),
-                        if o["spin"] == "restricted" { 2 } else { 1 },
-                        o["models"][name]["self_interaction"].as_f64().unwrap(),
-                        opt(&o["errors"]["models"][name]["self_interaction"]),
-                    )
-                })
+        let expected: Vec<(String, String, u32, f64, Option<f64>)> = counted_records(&v)
+            .map(|(c, o)| {
+                (
+                    c["name"].as_str().unwrap().to_string(),
+                    o["label"].as_str().unwrap().to_string(),
+                    if o["spin"] == "restricted" { 2 } else { 1 },
+                    o["models"][name]["self_interaction"].as_f64().unwrap(),
+                    opt(&o["errors"]["models"][name]["self_interaction"]),
+                )
             })
             .collect();
         let plotted: Vec<_> =
@@ -170,7 +185,9 @@ fn chart_data_is_what_the_json_report_says() {
         // The marked median is the median of the plotted points (restricted ones counted twice).
         assert_eq!(weighted_median_abs(&row.points), median, "{name}");
     }
-    assert_eq!(rows[0].points.len(), 5, "the failed calculation's orbital is left out");
+    let plotted: u32 = rows[0].points.iter().map(|p| p.weight).sum();
+    assert_eq!(u64::from(plotted), v["summary"]["counted"]["spin_orbitals"].as_u64().unwrap());
+    assert_eq!(rows[0].points.len(), 2, "the flagged core, the unchecked radical and the failed calculation are left out");
 
     // Perdew–Zunger bars: the totals of each completed calculation, none for the failed one.
     let groups = chart::pz_groups(&report);
@@ -181,16 +198,19 @@ fn chart_data_is_what_the_json_report_says() {
         let expected = (c["status"] == "ok")
             .then(|| names.iter().map(|n| c["totals"][n]["perdew_zunger"].as_f64().unwrap()).collect::<Vec<_>>());
         assert_eq!(g.values, expected);
+        // Spin-orbitals left out of the statistics (the * on the chart).
+        let left_out: u64 = c["counted"]["left_out"].as_object().map_or(0, |l| l.values().map(|r| r["spin_orbitals"].as_u64().unwrap()).sum());
+        assert_eq!(u64::from(g.left_out), left_out, "{}", g.calculation);
     }
     assert!(groups[2].values.is_none());
+    assert_eq!(groups.iter().map(|g| g.left_out).collect::<Vec<_>>(), [2, 2, 0], "the core; the radical's unchecked records");
 
     // Cancellation: x = J with its bar, y = −E_x/J with the bar propagated from E_x's and J's.
     let series = chart::cancellation_series(&report);
     for (s, name) in series.iter().zip(&names) {
         assert_eq!(&s.model, name);
-        let expected: Vec<(f64, Option<f64>, f64, Option<f64>)> = ok_calculations(&v)
-            .flat_map(|c| c["orbitals"].as_array().unwrap().iter())
-            .map(|o| {
+        let expected: Vec<(f64, Option<f64>, f64, Option<f64>)> = counted_records(&v)
+            .map(|(_, o)| {
                 let j = o["hartree"].as_f64().unwrap();
                 let ratio = o["models"][name]["cancellation"].as_f64().unwrap();
                 let ratio_error = o["errors"]["models"][name]["exchange"]
@@ -246,7 +266,7 @@ fn svg_of<'a>(page: &'a str, id: &str) -> &'a str {
 fn the_page_holds_every_chart_and_table_and_fetches_nothing() {
     let wf = workflow(&["lsda", "pbe", "xalpha=0.75"]);
     let results = results();
-    let summary = SetSummary::new(&results, wf.models.len(), wf.report.worst);
+    let summary = SetSummary::new(&results, wf.models.len(), wf.report.worst, wf.trust.tolerance);
     let report = BatchReport { workflow: &wf, results: &results, summary: &summary };
     let date = ReportDate { year: 2025, month: 3, day: 14 };
     let page = render(&report, EnergyUnit::ElectronVolt, Dated::Given(date));
@@ -266,16 +286,21 @@ fn the_page_holds_every_chart_and_table_and_fetches_nothing() {
         let svg = svg_of(&page, id);
         assert!(svg.contains(&format!("aria-labelledby=\"{id}-title {id}-desc\"")) && svg.contains("<desc"), "{id}");
     }
-    // One mark per (orbital, model) of the completed calculations, with its value in the unit.
+    // One mark per (counted orbital, model), with its value in the unit: the lone pair and the
+    // bond; not the flagged core nor the unchecked radical.
     let delta = svg_of(&page, "chart-delta");
-    assert_eq!(delta.matches(" · lsda: δ = ").count(), 5);
-    assert_eq!(delta.matches(": δ = ").count(), 5 * 3);
-    let core = &results[0].outcome.ranking.orbitals[0];
-    let shown = format!("δ = {} ± {} eV", num(EnergyUnit::ElectronVolt, core.models[1].self_interaction), num(EnergyUnit::ElectronVolt, core.errors.as_ref().unwrap().models[1].self_interaction));
+    assert_eq!(delta.matches(" · lsda: δ = ").count(), 2);
+    assert_eq!(delta.matches(": δ = ").count(), 2 * 3);
+    let lone = &results[0].outcome.ranking.orbitals.iter().find(|o| o.label == "lone").unwrap();
+    let shown = format!("δ = {} ± {} eV", num(EnergyUnit::ElectronVolt, lone.models[1].self_interaction), num(EnergyUnit::ElectronVolt, lone.errors.as_ref().unwrap().models[1].self_interaction));
     assert!(delta.contains(&shown), "{shown}");
+    assert!(!delta.contains("/ core ·"), "the core is left out");
     assert_eq!(delta.matches(": median |δ| = ").count(), 3);
     assert_eq!(svg_of(&page, "chart-pz").matches("</rect>").count(), 2 * 3, "bars (with their values) of the two completed calculations");
-    assert_eq!(svg_of(&page, "chart-cancellation").matches(": J = ").count(), 5 * 3);
+    assert_eq!(svg_of(&page, "chart-cancellation").matches(": J = ").count(), 2 * 3);
+    // What the statistics count is stated beside them, and the sums that hold other records are marked.
+    assert!(page.contains("Statistics over 4 of 8 spin-orbitals (the same records for every model); 4 left out (2 no error bars computed, 2 error bar above"), "coverage");
+    assert!(svg_of(&page, "chart-pz").contains("radical *<title>radical (2 spin-orbitals left out of the statistics)</title>"));
 
     // A user's name is text, never markup.
     assert!(page.contains("water &lt;b&gt;&amp;&quot;x&quot;") && !page.contains("water <b>"));
@@ -293,7 +318,7 @@ fn the_page_holds_every_chart_and_table_and_fetches_nothing() {
 fn a_set_where_everything_failed_still_renders() {
     let wf = workflow(&["lsda"]);
     let results = vec![calc("only", &[], Vec::new(), &[("only.cube", "only.cube:1: empty file")])];
-    let summary = SetSummary::new(&results, 1, 5);
+    let summary = SetSummary::new(&results, 1, 5, wf.trust.tolerance);
     let report = BatchReport { workflow: &wf, results: &results, summary: &summary };
     let page = render(&report, EnergyUnit::Millihartree, Dated::Unknown);
     assert_eq!(page.matches("nothing to plot").count(), 3);
@@ -343,7 +368,7 @@ fn large_sets_render_within_their_charts() {
             calc(&name, &["set"], vec![orbital("o1", Spin::Restricted, 0.33 + 0.001 * i as f64, &models, Some(0.001), &[])], &[])
         })
         .collect();
-    let summary = SetSummary::new(&results, names.len(), 20);
+    let summary = SetSummary::new(&results, names.len(), 20, wf.trust.tolerance);
     let report = BatchReport { workflow: &wf, results: &results, summary: &summary };
     let page = render(&report, EnergyUnit::Millihartree, Dated::Unknown);
     let pz = svg_of(&page, "chart-pz");
