@@ -46,12 +46,17 @@ pub struct FileFailure {
 /// Everything a calculation produced.
 #[derive(Clone, Debug, PartialEq)]
 pub struct Outcome {
-    /// Ranked reports of every orbital that could be analysed.
+    /// Ranked reports of every orbital that could be analysed; no totals while a file failed.
     pub ranking: Ranking,
     /// Files that could not, in input order.
     pub failures: Vec<FileFailure>,
     /// For localized orbitals: how each spin channel's localization went (empty otherwise).
     pub localization: Vec<LocalizationSummary>,
+}
+
+/// Why the totals of a calculation of `files` files, `failed` of which failed, are withheld.
+pub fn files_failed(failed: usize, files: usize) -> String {
+    format!("{failed} of {files} files failed")
 }
 
 /// Which orbitals of a calculation are analysed.
@@ -268,11 +273,16 @@ pub fn count_orbitals(jobs: &[FileJob]) -> usize {
 }
 
 /// Analyses every orbital in `files` as one calculation and ranks them by model `rank_by`.
+/// While any file fails, the totals are withheld.
 pub fn analyse_files(files: &[PathBuf], load: &LoadParams, engine: &Engine, rank_by: usize) -> Outcome {
     let jobs: Vec<FileJob> =
         files.iter().map(|p| FileJob { calculation: String::new(), path: p.clone(), load: load.clone() }).collect();
     let (orbitals, failures) = split(run_files(&jobs, engine, None, &Silent));
-    Outcome { ranking: Ranking::new(orbitals, rank_by), failures, localization: Vec::new() }
+    let mut ranking = Ranking::new(orbitals, rank_by);
+    if !failures.is_empty() {
+        ranking.withhold_totals(&files_failed(failures.len(), files.len()));
+    }
+    Outcome { ranking, failures, localization: Vec::new() }
 }
 
 /// The Foster–Boys localized orbitals of one calculation, ranked by model `rank_by`: each
@@ -280,7 +290,8 @@ pub fn analyse_files(files: &[PathBuf], load: &LoadParams, engine: &Engine, rank
 /// uniform grid when `load` asks for one), and the grid files together, per spin channel, on
 /// their shared grid. A grid file that cannot be read leaves the grid files unlocalized (a
 /// rotation of an incomplete set is not the localization of the calculation): it is reported as
-/// a failure, as is the whole grid set.
+/// a failure, as is the whole grid set. While any file fails (or is left unlocalized), the
+/// totals are withheld.
 pub fn analyse_localized(
     files: &[PathBuf],
     load: &LoadParams,
@@ -345,6 +356,9 @@ pub fn analyse_localized(
             },
         }
     }
+    // Files without orbitals in the result: each that failed, and the grid files of a grid set
+    // that could not be localized.
+    let mut failed_files = failures.len();
     if !grid_orbitals.is_empty() {
         let source = grid_files.iter().map(|p| p.display().to_string()).collect::<Vec<_>>().join(" + ");
         let result = if grid_complete {
@@ -357,10 +371,17 @@ pub fn analyse_localized(
                 reports.extend(r);
                 localization.extend(channels.into_iter().map(|channel| LocalizationSummary { source: source.clone(), channel }));
             }
-            Err(error) => failures.push(FileFailure { source, error }),
+            Err(error) => {
+                failed_files += grid_files.len();
+                failures.push(FileFailure { source, error });
+            }
         }
     }
-    Outcome { ranking: Ranking::new(reports, rank_by), failures, localization }
+    let mut ranking = Ranking::new(reports, rank_by);
+    if !failures.is_empty() {
+        ranking.withhold_totals(&files_failed(failed_files, files.len()));
+    }
+    Outcome { ranking, failures, localization }
 }
 
 /// Orbital reports (in job order) and failures of a set of file results.

@@ -1,7 +1,9 @@
 //! Statistics over a test set: per model, per tag, and the worst orbitals.
 //!
-//! Only calculations that completed count (a failed one has an incomplete orbital set). Each
-//! restricted orbital stands for two spin-orbitals and counts twice, as in the Perdew–Zunger sum.
+//! Only calculations that completed count (a failed one has an incomplete orbital set), and of
+//! their records, under each model, only those whose δ and −E_x/J are finite numbers (others are
+//! flagged `not-finite`). Each restricted orbital stands for two spin-orbitals and counts twice,
+//! as in the Perdew–Zunger sum.
 
 use super::CalculationResult;
 use crate::diagnostics::OrbitalReport;
@@ -75,6 +77,9 @@ fn model_stats<'a>(calcs: impl Iterator<Item = &'a CalculationResult> + Clone, m
     for c in calcs {
         for o in &c.outcome.ranking.orbitals {
             let e = o.models[model];
+            if !(e.self_interaction.is_finite() && e.cancellation.is_finite()) {
+                continue;
+            }
             let weight = o.spin.spin_orbitals();
             let d = e.self_interaction.abs();
             values.extend(std::iter::repeat_n(d, weight as usize));
@@ -128,6 +133,7 @@ impl SetSummary {
                 })
             })
             .collect();
+        pairs.retain(|w| w.self_interaction().is_finite());
         pairs.sort_by(|a, b| b.self_interaction().abs().total_cmp(&a.self_interaction().abs()));
         pairs.truncate(worst);
         SetSummary { completed: ok.count(), failed: results.iter().filter(|c| !c.is_ok()).count(), models, tags, worst: pairs }
@@ -197,5 +203,22 @@ mod tests {
         // Worst pairs across models, failed calculation excluded.
         let worst: Vec<_> = s.worst.iter().map(|w| (w.orbital.label.as_str(), w.model)).collect();
         assert_eq!(worst, [("b1", 0), ("a1", 1), ("a2", 0)]);
+    }
+
+    #[test]
+    fn records_without_a_finite_delta_are_left_out_under_that_model() {
+        let results = vec![calc(
+            "a",
+            &[],
+            vec![orbital("a1", Spin::Alpha, [0.1, f64::NAN]), orbital("a2", Spin::Alpha, [-0.3, 0.2]), orbital("a3", Spin::Alpha, [0.2, f64::INFINITY])],
+            false,
+        )];
+        let s = SetSummary::new(&results, 2, 10);
+        let [m0, m1] = [0, 1].map(|m| s.models[m].clone().unwrap());
+        assert_eq!((m0.spin_orbitals, m1.spin_orbitals), (3, 1));
+        assert_eq!((m1.mean_abs, m1.median_abs, m1.max_abs, m1.max_at.1.as_str()), (0.2, 0.2, 0.2, "a2"));
+        assert!(m1.mean_cancellation.is_finite());
+        assert_eq!(s.worst.len(), 4);
+        assert!(s.worst.iter().all(|w| w.self_interaction().is_finite()));
     }
 }

@@ -61,6 +61,10 @@ pub fn run_batch(args: BatchArgs, threads: Option<usize>) -> anyhow::Result<Stat
         for w in c.outcome.ranking.orbitals.iter().filter_map(sixray::report::kind_warning) {
             eprintln!("sixray: warning: calculation {}: {w} (the workflow's `kind:`)", c.name);
         }
+        let r = sixray::report::Report { models: &workflow.models, outcome: &c.outcome, top: None };
+        for w in sixray::report::non_finite_warnings(&r) {
+            eprintln!("sixray: warning: calculation {}: {w}", c.name);
+        }
     }
     for c in results.iter().filter(|c| !c.is_ok()) {
         for f in &c.outcome.failures {

@@ -15,7 +15,7 @@
 //!                "tail_correction" },
 //!   "calculations": [ {"name", "tags", "status": "ok" | "failed", "error" (when failed),
 //!                      "failures": [{"source", "error"}], "orbitals": [...as in rank],
-//!                      "totals": {MODEL: {"perdew_zunger", "mean_cancellation"}},
+//!                      "totals": {MODEL: ...as in rank: null with "invalid" when withheld},
 //!                      "spin_orbitals", "density_check": (as one file of `inspect --format json`) or null,
 //!                      "localization": [...as in rank] } ] }
 //! ```
@@ -28,6 +28,7 @@ use super::text::{Table, input_lines, localization_line, markdown_failures, mark
 use super::{EnergyUnit, Report, csv, flags_text, html, json, write_atomic};
 use crate::batch::summary::{ModelStats, SetSummary};
 use crate::batch::{CalculationResult, ReportFormat, Workflow};
+use crate::diagnostics::Flag;
 use serde_json::{Map, Value, json};
 use std::path::PathBuf;
 
@@ -200,6 +201,13 @@ pub fn render_markdown(report: &BatchReport, unit: EnergyUnit) -> String {
         let list = flagged.iter().map(|(f, n)| format!("{n} {f}")).collect::<Vec<_>>().join(", ");
         out += &format!("Orbital records flagged by the grid checks: {list} (tolerance {} {u}).\n\n", unit.format(wf.trust.tolerance));
     }
+    if let Some((_, n)) = flagged.iter().find(|(f, _)| *f == Flag::NotFinite.as_str()) {
+        out += &format!(
+            "{n} orbital record(s) flagged not-finite have numbers that are not finite (infinite or NaN; shown as {}): they are left out \
+             of the statistics, and their calculations' totals under the models concerned are withheld.\n\n",
+            super::INVALID
+        );
+    }
     // Which corrections the grid-file values carry.
     out += &format!(
         "Grid files: cusp correction {}; tail correction {}.\n\n",
@@ -234,7 +242,11 @@ pub fn render_markdown(report: &BatchReport, unit: EnergyUnit) -> String {
     for c in report.results {
         let mut row = vec![c.name.clone(), c.tags.join(", ")];
         for tot in &c.outcome.ranking.totals {
-            row.push(if c.is_ok() { unit.format(tot.perdew_zunger) } else { "failed".into() });
+            row.push(match tot {
+                _ if !c.is_ok() => "failed".into(),
+                Ok(tot) => unit.format(tot.perdew_zunger),
+                Err(_) => super::INCOMPLETE.into(),
+            });
         }
         row.resize(2 + wf.models.len(), "failed".into());
         t.rows.push(row);

@@ -7,6 +7,7 @@ mod batch;
 mod cli;
 mod common;
 mod cusp;
+mod faults_results;
 mod functionals;
 mod html;
 mod inspect;

@@ -110,13 +110,15 @@ pub fn delta_rows(report: &BatchReport) -> Vec<DeltaRow> {
         .enumerate()
         .map(|(m, model)| DeltaRow {
             model: model.name.clone(),
+            // A number that is not finite is no point (the record is flagged `not-finite`).
             points: completed_records(report)
+                .filter(|(_, o)| o.models[m].self_interaction.is_finite())
                 .map(|(calc, o)| DeltaPoint {
                     calculation: calc.to_string(),
                     label: o.label.clone(),
                     weight: o.spin.spin_orbitals(),
                     self_interaction: o.models[m].self_interaction,
-                    error: o.errors.as_ref().map(|e| e.models[m].self_interaction),
+                    error: o.errors.as_ref().map(|e| e.models[m].self_interaction).filter(|e| e.is_finite()),
                 })
                 .collect(),
             median_abs: report.summary.models[m].as_ref().map(|s| s.median_abs),
@@ -131,7 +133,7 @@ pub fn pz_groups(report: &BatchReport) -> Vec<PzGroup> {
         .iter()
         .map(|c| PzGroup {
             calculation: c.name.clone(),
-            values: c.is_ok().then(|| c.outcome.ranking.totals.iter().map(|t| t.perdew_zunger).collect()),
+            values: c.outcome.ranking.totals.iter().map(|t| t.as_ref().ok().map(|t| t.perdew_zunger)).collect::<Option<_>>().filter(|_| c.is_ok()),
         })
         .collect()
 }
@@ -146,6 +148,7 @@ pub fn cancellation_series(report: &BatchReport) -> Vec<CancellationSeries> {
         .map(|(m, model)| CancellationSeries {
             model: model.name.clone(),
             points: completed_records(report)
+                .filter(|(_, o)| o.hartree.is_finite() && o.models[m].cancellation.is_finite())
                 .map(|(calc, o)| {
                     let e = o.models[m];
                     let ratio_error = o.errors.as_ref().filter(|_| o.hartree > 0.0).map(|err| {
@@ -155,9 +158,9 @@ pub fn cancellation_series(report: &BatchReport) -> Vec<CancellationSeries> {
                         calculation: calc.to_string(),
                         label: o.label.clone(),
                         hartree: o.hartree,
-                        hartree_error: o.errors.as_ref().map(|e| e.hartree),
+                        hartree_error: o.errors.as_ref().map(|e| e.hartree).filter(|e| e.is_finite()),
                         ratio: e.cancellation,
-                        ratio_error,
+                        ratio_error: ratio_error.filter(|e| e.is_finite()),
                     }
                 })
                 .collect(),
