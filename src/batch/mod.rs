@@ -96,7 +96,7 @@ pub fn run(workflow: &Workflow, params: &BatchParams, progress: &dyn Progress) -
             out.push(CalculationResult {
                 name: c.name.clone(),
                 tags: c.tags.clone(),
-                outcome: Outcome { ranking, failures, localization: Vec::new() },
+                outcome: Outcome { ranking, failures, localization: Vec::new(), duplicates: c.duplicates.clone() },
                 density,
             });
         }
@@ -106,7 +106,10 @@ pub fn run(workflow: &Workflow, params: &BatchParams, progress: &dyn Progress) -
             let name = localized_name(&c.name);
             let job = FileJob { calculation: name.clone(), path: PathBuf::from(format!("{} file(s), localized", c.files.len())), load: c.load.clone() };
             progress.file_started(&job);
-            let outcome = analyse_localized(&c.files, &c.load, &engine, &c.localize, workflow.rank_by, Parallelism::Rayon);
+            let outcome = Outcome {
+                duplicates: c.duplicates.clone(),
+                ..analyse_localized(&c.files, &c.load, &engine, &c.localize, workflow.rank_by, Parallelism::Rayon)
+            };
             match outcome.failures.first() {
                 Some(f) => progress.file_failed(&job, &f.error),
                 None => progress.file_done(&job, outcome.ranking.orbitals.len(), 0),

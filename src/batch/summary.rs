@@ -178,7 +178,7 @@ mod tests {
         CalculationResult {
             name: name.into(),
             tags: tags.iter().map(|t| t.to_string()).collect(),
-            outcome: Outcome { ranking: Ranking::new(orbitals, 0), failures, localization: Vec::new() },
+            outcome: Outcome { ranking: Ranking::new(orbitals, 0), failures, localization: Vec::new(), duplicates: Vec::new() },
             density: None,
         }
     }

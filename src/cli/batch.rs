@@ -49,6 +49,11 @@ pub fn run_batch(args: BatchArgs, threads: Option<usize>) -> anyhow::Result<Stat
         workflow.report.dir = dir;
     }
     workflow.report.date = args.date;
+    for c in &workflow.calculations {
+        for d in &c.duplicates {
+            eprintln!("sixray: warning: calculation {}: {} has the same content as {}; analysed once, as {}", c.name, d.source, d.same_as, d.same_as);
+        }
+    }
     let display = Display::new(expected_orbitals(&workflow), args.quiet);
     let params = BatchParams { fresh: args.fresh, ..BatchParams::default() };
     let results = in_pool(threads.or(workflow.threads), || Ok(run(&workflow, &params, &display)))?;

@@ -234,6 +234,14 @@ pub fn run(args: RankArgs) -> anyhow::Result<Status> {
     if sets.localized() {
         outcomes.push((OrbitalSet::Localized, analyse_localized(&args.files, &load, &engine, &localize, rank_by, Parallelism::Rayon)));
     }
+    // Each set's analysis leaves out the same files: say so once.
+    let mut duplicates = Vec::new();
+    for d in outcomes.iter().flat_map(|(_, o)| &o.duplicates) {
+        if !duplicates.contains(&d) {
+            eprintln!("sixray: warning: {} has the same content as {}; analysed once, as {}", d.source, d.same_as, d.same_as);
+            duplicates.push(d);
+        }
+    }
     let reports: Vec<(OrbitalSet, Report)> =
         outcomes.iter().map(|(set, outcome)| (*set, Report { models: engine.models(), outcome, top: args.top })).collect();
     for (_, r) in &reports {

@@ -14,7 +14,8 @@
 //!                "flags": {FLAG: number of orbital records}, "tolerance", "cusp_correction",
 //!                "tail_correction" },
 //!   "calculations": [ {"name", "tags", "status": "ok" | "failed", "error" (when failed),
-//!                      "failures": [{"source", "error"}], "orbitals": [...as in rank],
+//!                      "failures": [{"source", "error"}], "duplicates": [...as in rank] (only
+//!                      where some), "orbitals": [...as in rank],
 //!                      "totals": {MODEL: ...as in rank: null with "invalid" when withheld},
 //!                      "spin_orbitals", "density_check": (as one file of `inspect --format json`) or null,
 //!                      "localization": [...as in rank] } ] }
@@ -24,7 +25,7 @@
 //! writes the same bytes. (`report.html` shows a date: the caller's, or the newest modification
 //! date among the input files, which a rerun does not change.)
 
-use super::text::{Table, input_lines, localization_line, markdown_failures, markdown_orbitals, markdown_totals};
+use super::text::{Table, input_lines, localization_line, markdown_duplicates, markdown_failures, markdown_orbitals, markdown_totals};
 use super::{EnergyUnit, Report, csv, flags_text, html, json, write_atomic};
 use crate::batch::summary::{ModelStats, SetSummary};
 use crate::batch::{CalculationResult, ReportFormat, Workflow};
@@ -128,6 +129,9 @@ pub fn to_value(report: &BatchReport) -> Value {
                 map.insert("error".into(), json!(first.error));
             }
             map.insert("failures".into(), json!(json::failures(&c.outcome.failures)));
+            if !c.outcome.duplicates.is_empty() {
+                map.insert("duplicates".into(), json!(json::duplicates(&c.outcome.duplicates)));
+            }
             map.insert("orbitals".into(), json!(json::orbitals(&r)));
             map.insert("totals".into(), json::totals(&r));
             map.insert("spin_orbitals".into(), json!(c.outcome.ranking.spin_orbitals));
@@ -301,6 +305,10 @@ pub fn render_markdown(report: &BatchReport, unit: EnergyUnit) -> String {
         if !c.is_ok() {
             out += "**Failed**: the orbitals below are incomplete and excluded from the statistics above.\n\n";
             out += &markdown_failures(&c.outcome.failures);
+            out += "\n";
+        }
+        if !c.outcome.duplicates.is_empty() {
+            out += &markdown_duplicates(&r);
             out += "\n";
         }
         for l in input_lines(&c.outcome.ranking.orbitals) {

@@ -28,12 +28,14 @@
 //!              failed, or a record has no finite δ under MODEL), both null and "invalid":
 //!              [{"quantity", "reason": "incomplete: …"}]}, "spin_orbitals": N,
 //!   "failures": [{"source", "error"}],
+//!   "duplicates": [{"source", "same_as"}] (only where a file given has the bytes of an
+//!                  earlier one: left out, analysed once as `same_as`),
 //!   "localization": [{"source", "spin", "orbitals", "initial_functional", "functional",
 //!                     "sweeps", "converged"}] }   (localized orbitals only; L in bohr²)
 //! ```
 
 use super::Report;
-use crate::calculation::{FileFailure, LocalizationSummary};
+use crate::calculation::{DuplicateFile, FileFailure, LocalizationSummary};
 use crate::diagnostics::non_finite_reason;
 use crate::xc::Model;
 use serde_json::{Map, Value, json};
@@ -174,6 +176,11 @@ pub fn totals(report: &Report) -> Value {
     Value::Object(totals)
 }
 
+/// Files left out for having the same bytes as another, as in the `duplicates` list.
+pub fn duplicates(duplicates: &[DuplicateFile]) -> Vec<Value> {
+    duplicates.iter().map(|d| json!({"source": d.source, "same_as": d.same_as})).collect()
+}
+
 /// The models with their functionals.
 pub fn models(models: &[Model]) -> Vec<Value> {
     models
@@ -202,7 +209,7 @@ pub fn tool() -> Value {
 /// The report as a JSON value.
 pub fn to_value(report: &Report) -> Value {
     let ranking = &report.outcome.ranking;
-    json!({
+    let mut v = json!({
         "tool": tool(),
         "units": "hartree",
         "rank_by": report.models.get(ranking.rank_by).map(|m| m.name.as_str()),
@@ -212,7 +219,11 @@ pub fn to_value(report: &Report) -> Value {
         "spin_orbitals": ranking.spin_orbitals,
         "failures": failures(&report.outcome.failures),
         "localization": localization(&report.outcome.localization),
-    })
+    });
+    if !report.outcome.duplicates.is_empty() {
+        insert_after(&mut v, "failures", "duplicates", json!(duplicates(&report.outcome.duplicates)));
+    }
+    v
 }
 
 /// Per localized spin channel: files, spin, orbitals, L before and after (bohr²), sweeps,

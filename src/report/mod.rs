@@ -253,7 +253,7 @@ mod tests {
 
     #[test]
     fn numbers_that_are_not_finite_and_withheld_totals_are_never_shown_as_numbers() {
-        use crate::calculation::{FileFailure, Outcome};
+        use crate::calculation::{DuplicateFile, FileFailure, Outcome};
         use crate::diagnostics::{Engine, EngineParams, GridOrbital, Kind, Ranking};
         use crate::grid::GridGeometry;
         let models = vec![Model::from_name("lsda").unwrap(), Model::from_name("slater").unwrap()];
@@ -275,10 +275,11 @@ mod tests {
         }
         let mut ranking = Ranking::new(vec![bad, good], 0);
         assert_eq!(ranking.orbitals[1].label, "bad");
-        let complete = Outcome { ranking: ranking.clone(), failures: Vec::new(), localization: Vec::new() };
+        let complete = Outcome { ranking: ranking.clone(), failures: Vec::new(), localization: Vec::new(), duplicates: Vec::new() };
         ranking.withhold_totals("1 of 3 files failed");
         let failure = FileFailure { source: "c.cube".into(), error: "c.cube:4: broken".into() };
-        let incomplete = Outcome { ranking, failures: vec![failure], localization: Vec::new() };
+        let copy = DuplicateFile { source: "b.cube".into(), same_as: "a.cube".into() };
+        let incomplete = Outcome { ranking, failures: vec![failure], localization: Vec::new(), duplicates: vec![copy] };
 
         let v = json::to_value(&Report { models: &models, outcome: &complete, top: None });
         let bad = &v["orbitals"][1];
@@ -289,13 +290,14 @@ mod tests {
             ["hartree", "optimal_alpha", "models.lsda.self_interaction", "models.lsda.cancellation", "models.slater.self_interaction", "models.slater.cancellation"]
         );
         assert_eq!(bad["invalid"][0]["reason"], "not a finite number (NaN)");
-        assert!(v["orbitals"][0].get("invalid").is_none());
+        assert!(v["orbitals"][0].get("invalid").is_none() && v.get("duplicates").is_none());
         assert!(v["totals"]["lsda"]["perdew_zunger"].is_null());
         assert_eq!(v["totals"]["lsda"]["invalid"][1]["reason"], "incomplete: 1 of 2 orbital records without a finite δ under this model");
 
         let v = json::to_value(&Report { models: &models, outcome: &incomplete, top: None });
         let reason = "incomplete: 1 of 3 files failed; 1 of 2 orbital records without a finite δ under this model";
         assert_eq!(v["totals"]["slater"]["invalid"][0], serde_json::json!({"quantity": "perdew_zunger", "reason": reason}));
+        assert_eq!(v["duplicates"], serde_json::json!([{"source": "b.cube", "same_as": "a.cube"}]));
 
         let r = Report { models: &models, outcome: &incomplete, top: None };
         let (table, markdown, csv) = (text::render_table(&r, EnergyUnit::Millihartree), text::render_markdown(&r, EnergyUnit::Hartree), csv::render(&r));
@@ -305,7 +307,9 @@ mod tests {
         let bad_row = table.lines().find(|l| l.contains(" bad ")).unwrap();
         assert!(bad_row.contains(INVALID) && bad_row.ends_with("not-finite"), "{bad_row}");
         assert!(table.contains(&format!("no total for lsda, slater: {reason}")), "{table}");
+        assert!(table.contains("b.cube: same content as a.cube; analysed once"), "{table}");
         assert!(markdown.contains("| lsda | lsda | pw92 | incomplete | incomplete |"), "{markdown}");
+        assert!(markdown.contains("- `b.cube`: same content as `a.cube`; analysed once"), "{markdown}");
         // CSV: empty cells where the numbers are not finite, and the flag.
         let row = csv.lines().find(|l| l.contains(",bad,") && l.contains(",lsda,")).unwrap();
         let cells: Vec<&str> = row.split(',').collect();

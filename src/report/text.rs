@@ -228,6 +228,12 @@ pub fn render_table(report: &Report, unit: EnergyUnit) -> String {
             out += &format!("  {l}\n");
         }
     }
+    if !report.outcome.duplicates.is_empty() {
+        out += "\nFiles with the same content as an earlier file:\n";
+        for d in &report.outcome.duplicates {
+            out += &format!("  {}\n", d.note());
+        }
+    }
     let inputs = input_lines(&report.outcome.ranking.orbitals);
     if !inputs.is_empty() {
         out += "\nBasis-set files (conventions decided from the orbitals' orthonormality):\n";
@@ -294,6 +300,11 @@ pub fn markdown_totals(report: &Report, unit: EnergyUnit) -> String {
     out
 }
 
+/// Markdown list of the files analysed once for having another's bytes (empty when none).
+pub fn markdown_duplicates(report: &Report) -> String {
+    report.outcome.duplicates.iter().map(|d| format!("- `{}`: same content as `{}`; analysed once\n", d.source, d.same_as)).collect()
+}
+
 /// Markdown list of failed files (empty when none failed).
 pub fn markdown_failures(failures: &[crate::calculation::FileFailure]) -> String {
     failures.iter().map(|f| format!("- `{}`: {}\n", f.source, f.error.replace('\n', " "))).collect()
@@ -307,6 +318,10 @@ pub fn render_markdown(report: &Report, unit: EnergyUnit) -> String {
     }
     out += "\n## Per model\n\n";
     out += &markdown_totals(report, unit);
+    if !report.outcome.duplicates.is_empty() {
+        out += "\n## Files with the same content as an earlier file\n\n";
+        out += &markdown_duplicates(report);
+    }
     let inputs = input_lines(&report.outcome.ranking.orbitals);
     if !inputs.is_empty() {
         out += "\n## Basis-set files\n\nConventions decided from the orbitals' orthonormality.\n\n";

@@ -3,6 +3,7 @@
 
 use crate::common::{sixray, stderr, stdout};
 use serde_json::Value;
+use std::fmt::Write as _;
 use std::path::{Path, PathBuf};
 use std::process::Output;
 
@@ -220,4 +221,95 @@ fn a_failed_calculation_of_a_batch_has_no_perdew_zunger_total() {
     let md = std::fs::read_to_string(p.join("out/report.md")).unwrap();
     let section = md.split_once("### broken").unwrap().1.split("### fine").next().unwrap();
     assert_eq!(totals_cells(section, "lsda"), ["incomplete", "incomplete"], "{section}");
+}
+
+#[test]
+fn rank_analyses_each_distinct_file_once_and_says_which_it_left_out() {
+    let dir = tempfile::tempdir().unwrap();
+    let p = dir.path();
+    copy_lih(p, "lih");
+    std::fs::copy(sample("orbital_001.cube.gz"), p.join("copy.cube.gz")).unwrap();
+    let first = "lih/orbital_001.cube.gz";
+    let absolute = p.join(first).display().to_string();
+    let once = json(&sixray(&["rank", "-f", "json", first, "lih/orbital_002.cube.gz"], p));
+    let out = sixray(&["rank", "-f", "json", first, "./lih/orbital_001.cube.gz", &absolute, "copy.cube.gz", "lih/orbital_002.cube.gz"], p);
+    assert!(out.status.success(), "{}", stderr(&out));
+    let v = json(&out);
+    assert_eq!(v["orbitals"].as_array().unwrap().len(), 2);
+    assert_eq!(v["spin_orbitals"], 4);
+    assert_eq!(v["totals"], once["totals"]);
+    let duplicates: Vec<(&str, &str)> =
+        v["duplicates"].as_array().unwrap().iter().map(|d| (d["source"].as_str().unwrap(), d["same_as"].as_str().unwrap())).collect();
+    assert_eq!(duplicates, [("./lih/orbital_001.cube.gz", first), (absolute.as_str(), first), ("copy.cube.gz", first)]);
+    let err = stderr(&out);
+    for (source, _) in &duplicates {
+        assert!(err.contains(&format!("warning: {source} has the same content as {first}")), "{err}");
+    }
+    let table = stdout(&sixray(&["rank", first, "copy.cube.gz"], p));
+    assert!(table.contains(&format!("copy.cube.gz: same content as {first}")), "{table}");
+}
+
+#[test]
+fn a_workflow_analyses_each_distinct_file_of_a_calculation_once() {
+    let dir = tempfile::tempdir().unwrap();
+    let p = dir.path();
+    copy_lih(p, "lih");
+    std::fs::create_dir_all(p.join("copy")).unwrap();
+    std::fs::copy(sample("orbital_001.cube.gz"), p.join("copy/orbital_001.cube.gz")).unwrap();
+    // Overlapping globs, a path spelled another way and a byte-identical copy.
+    let yaml = "calculations:\n  - name: lih\n    files: [lih/*.gz, lih/orbital_001.cube.gz, lih/../lih/orbital_002.cube.gz, copy/*.gz]\nmodels: [lsda]\nreport:\n  dir: out\n  formats: [markdown, json]\n";
+    std::fs::write(p.join("set.yaml"), yaml).unwrap();
+    let run = sixray(&["batch", "-q", "set.yaml"], p);
+    assert!(run.status.success(), "{}", stderr(&run));
+    let err = stderr(&run);
+    assert!(err.contains("calculation lih:") && err.contains("copy/orbital_001.cube.gz has the same content as"), "{err}");
+    let v = read_json(&p.join("out/report.json"));
+    let c = &v["calculations"][0];
+    assert_eq!((c["orbitals"].as_array().unwrap().len(), c["spin_orbitals"].as_u64()), (2, Some(4)));
+    let sources: Vec<String> = c["duplicates"].as_array().unwrap().iter().map(|d| d["source"].as_str().unwrap().to_string()).collect();
+    assert_eq!(sources.len(), 2, "{sources:?}");
+    assert!(sources.iter().any(|s| s.ends_with("lih/../lih/orbital_002.cube.gz")) && sources.iter().any(|s| s.ends_with("copy/orbital_001.cube.gz")), "{sources:?}");
+    let md = std::fs::read_to_string(p.join("out/report.md")).unwrap();
+    assert!(md.contains("same content as") && md.contains("analysed once"), "{md}");
+}
+
+/// A cube of two orbitals (Gaussian amplitudes of exponents 1 and 2 at the origin, invented
+/// data) on 25³ points 0.35 bohr apart, whose orbital list reads `ids`.
+fn two_orbital_cube(ids: &str) -> String {
+    let (n, h) = (25, 0.35);
+    let o = -(n as f64 - 1.0) * h / 2.0;
+    let mut s = format!("two orbitals\ninvented for the tests\n   -1{o:12.6}{o:12.6}{o:12.6}\n");
+    for a in 0..3 {
+        let mut v = [0.0; 3];
+        v[a] = h;
+        let _ = writeln!(s, "{n:5}{:12.6}{:12.6}{:12.6}", v[0], v[1], v[2]);
+    }
+    let _ = writeln!(s, "    1    1.000000    0.000000    0.000000    0.000000\n{ids}");
+    let amplitude = |a: f64, r2: f64| (2.0 * a / std::f64::consts::PI).powf(0.75) * (-a * r2).exp();
+    for i in 0..n {
+        for j in 0..n {
+            for k in 0..n {
+                let r2 = [i, j, k].iter().map(|&x| (o + x as f64 * h).powi(2)).sum::<f64>();
+                let _ = writeln!(s, "{:14.6E}{:14.6E}", amplitude(0.5, r2), amplitude(1.0, r2));
+            }
+        }
+    }
+    s
+}
+
+#[test]
+fn a_cube_listing_one_orbital_twice_is_refused_with_its_line() {
+    let dir = tempfile::tempdir().unwrap();
+    let p = dir.path();
+    std::fs::write(p.join("pair.cube"), two_orbital_cube("    2    3    4")).unwrap();
+    std::fs::write(p.join("twice.cube"), two_orbital_cube("    2    3    3")).unwrap();
+    let good = sixray(&["rank", "-f", "json", "--kind", "amplitude", "pair.cube"], p);
+    assert!(good.status.success(), "{}", stderr(&good));
+    let labels: Vec<Value> = json(&good)["orbitals"].as_array().unwrap().iter().map(|o| o["label"].clone()).collect();
+    assert_eq!(labels.len(), 2);
+    assert!(labels.contains(&Value::from("pair#3")) && labels.contains(&Value::from("pair#4")), "{labels:?}");
+    let bad = sixray(&["rank", "-f", "json", "--kind", "amplitude", "twice.cube"], p);
+    assert_eq!(bad.status.code(), Some(2));
+    assert!(stderr(&bad).contains("twice.cube:8: orbital index 3 is listed twice"), "{}", stderr(&bad));
+    assert!(json(&bad)["orbitals"].as_array().unwrap().is_empty());
 }
