@@ -46,12 +46,57 @@ pub struct FileFailure {
 /// Everything a calculation produced.
 #[derive(Clone, Debug, PartialEq)]
 pub struct Outcome {
-    /// Ranked reports of every orbital that could be analysed.
+    /// Ranked reports of every orbital that could be analysed; no totals while a file failed.
     pub ranking: Ranking,
     /// Files that could not, in input order.
     pub failures: Vec<FileFailure>,
     /// For localized orbitals: how each spin channel's localization went (empty otherwise).
     pub localization: Vec<LocalizationSummary>,
+    /// Files given that hold the same bytes as an earlier file of the calculation, and so were
+    /// analysed once, as that one (empty when every file is distinct).
+    pub duplicates: Vec<DuplicateFile>,
+}
+
+/// A file left out of a calculation because an earlier file of it has the same bytes (the same
+/// path spelled otherwise, overlapping patterns, a copy under another name).
+#[derive(Clone, Debug, PartialEq, Eq)]
+pub struct DuplicateFile {
+    /// The file left out, as given.
+    pub source: String,
+    /// The earlier file with the same bytes, analysed in its place, as given.
+    pub same_as: String,
+}
+
+impl DuplicateFile {
+    /// The note for people: `SOURCE: same content as SAME_AS; analysed once`.
+    pub fn note(&self) -> String {
+        format!("{}: same content as {}; analysed once", self.source, self.same_as)
+    }
+}
+
+/// `files` without those whose bytes an earlier one has (in order, the first of each content
+/// kept), and the ones left out. Only files of equal size are hashed (BLAKE3, as the cache
+/// does); a file that cannot be read is kept, to fail later with the full error.
+pub fn distinct_files(files: &[PathBuf]) -> (Vec<PathBuf>, Vec<DuplicateFile>) {
+    let sizes: Vec<Option<u64>> = files.iter().map(|f| std::fs::metadata(f).ok().map(|m| m.len())).collect();
+    let shares_size = |i: usize| sizes[i].is_some() && sizes.iter().enumerate().any(|(j, s)| j != i && *s == sizes[i]);
+    let digests = Parallelism::Rayon.map(files.len(), |i| if shares_size(i) { file_digest(&files[i]).ok() } else { None });
+    let mut kept: Vec<usize> = Vec::new();
+    let mut duplicates = Vec::new();
+    for (i, f) in files.iter().enumerate() {
+        match digests[i].and_then(|d| kept.iter().find(|&&k| digests[k] == Some(d))) {
+            Some(&k) => {
+                duplicates.push(DuplicateFile { source: f.display().to_string(), same_as: files[k].display().to_string() })
+            }
+            None => kept.push(i),
+        }
+    }
+    (kept.into_iter().map(|i| files[i].clone()).collect(), duplicates)
+}
+
+/// Why the totals of a calculation of `files` files, `failed` of which failed, are withheld.
+pub fn files_failed(failed: usize, files: usize) -> String {
+    format!("{failed} of {files} files failed")
 }
 
 /// Which orbitals of a calculation are analysed.
@@ -285,11 +330,18 @@ pub fn count_orbitals(jobs: &[FileJob]) -> usize {
 }
 
 /// Analyses every orbital in `files` as one calculation and ranks them by model `rank_by`.
+/// Files with the same bytes are analysed once ([`distinct_files`]); while any file fails, the
+/// totals are withheld.
 pub fn analyse_files(files: &[PathBuf], load: &LoadParams, engine: &Engine, rank_by: usize) -> Outcome {
+    let (files, duplicates) = distinct_files(files);
     let jobs: Vec<FileJob> =
         files.iter().map(|p| FileJob { calculation: String::new(), path: p.clone(), load: load.clone() }).collect();
     let (orbitals, failures) = split(run_files(&jobs, engine, None, &Silent));
-    Outcome { ranking: Ranking::new(orbitals, rank_by), failures, localization: Vec::new() }
+    let mut ranking = Ranking::new(orbitals, rank_by);
+    if !failures.is_empty() {
+        ranking.withhold_totals(&files_failed(failures.len(), files.len()));
+    }
+    Outcome { ranking, failures, localization: Vec::new(), duplicates }
 }
 
 /// The Foster–Boys localized orbitals of one calculation, ranked by model `rank_by`: each
@@ -297,7 +349,8 @@ pub fn analyse_files(files: &[PathBuf], load: &LoadParams, engine: &Engine, rank
 /// uniform grid when `load` asks for one), and the grid files together, per spin channel, on
 /// their shared grid. A grid file that cannot be read leaves the grid files unlocalized (a
 /// rotation of an incomplete set is not the localization of the calculation): it is reported as
-/// a failure, as is the whole grid set.
+/// a failure, as is the whole grid set. Files with the same bytes are analysed once; while any
+/// file fails (or is left unlocalized), the totals are withheld.
 pub fn analyse_localized(
     files: &[PathBuf],
     load: &LoadParams,
@@ -306,6 +359,7 @@ pub fn analyse_localized(
     rank_by: usize,
     par: Parallelism,
 ) -> Outcome {
+    let (files, duplicates) = distinct_files(files);
     let mut reports = Vec::new();
     let mut failures = Vec::new();
     let mut localization = Vec::new();
@@ -323,7 +377,7 @@ pub fn analyse_localized(
         }
         Ok((reports, channels))
     };
-    for path in files {
+    for path in &files {
         let fail = |error: String| FileFailure { source: path.display().to_string(), error };
         match sniff_format(path) {
             Err(e) => {
@@ -362,6 +416,9 @@ pub fn analyse_localized(
             },
         }
     }
+    // Files without orbitals in the result: each that failed, and the grid files of a grid set
+    // that could not be localized.
+    let mut failed_files = failures.len();
     if !grid_orbitals.is_empty() {
         let source = grid_files.iter().map(|p| p.display().to_string()).collect::<Vec<_>>().join(" + ");
         let result = if grid_complete {
@@ -374,10 +431,17 @@ pub fn analyse_localized(
                 reports.extend(r);
                 localization.extend(channels.into_iter().map(|channel| LocalizationSummary { source: source.clone(), channel }));
             }
-            Err(error) => failures.push(FileFailure { source, error }),
+            Err(error) => {
+                failed_files += grid_files.len();
+                failures.push(FileFailure { source, error });
+            }
         }
     }
-    Outcome { ranking: Ranking::new(reports, rank_by), failures, localization }
+    let mut ranking = Ranking::new(reports, rank_by);
+    if !failures.is_empty() {
+        ranking.withhold_totals(&files_failed(failed_files, files.len()));
+    }
+    Outcome { ranking, failures, localization, duplicates }
 }
 
 /// Orbital reports (in job order) and failures of a set of file results.
@@ -409,5 +473,34 @@ fn prepare_solvers(jobs: &[FileJob], engine: &Engine) {
         for g in &grids {
             engine.solver(g, Parallelism::Rayon);
         }
+    }
+}
+
+#[cfg(test)]
+mod tests {
+    use super::*;
+
+    #[test]
+    fn files_with_the_same_bytes_are_kept_once_and_noted() {
+        let dir = tempfile::tempdir().unwrap();
+        let p = |name: &str| dir.path().join(name);
+        // Same size, other bytes; the same bytes under another name; the same file by another
+        // path; a file that cannot be read (kept: it fails later with the full error).
+        for (name, text) in [("a", "orbital A"), ("b", "orbital B"), ("c", "orbital A")] {
+            std::fs::write(p(name), text).unwrap();
+        }
+        let again = dir.path().join(".").join("a");
+        let files = [p("a"), p("b"), p("c"), again.clone(), p("missing"), p("missing")];
+        let (kept, left_out) = distinct_files(&files);
+        assert_eq!(kept, [p("a"), p("b"), p("missing"), p("missing")]);
+        let shown = |f: &Path| f.display().to_string();
+        assert_eq!(
+            left_out,
+            [
+                DuplicateFile { source: shown(&p("c")), same_as: shown(&p("a")) },
+                DuplicateFile { source: shown(&again), same_as: shown(&p("a")) },
+            ]
+        );
+        assert_eq!(left_out[0].note(), format!("{}: same content as {}; analysed once", shown(&p("c")), shown(&p("a"))));
     }
 }

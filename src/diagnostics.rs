@@ -207,6 +207,87 @@ pub struct OrbitalReport {
     pub kind_origin: Option<KindOrigin>,
 }
 
+/// Where a number sits in an orbital record, named as in the JSON report: `group`, then the
+/// model's name where the number is one model's, then `name` (`hartree`,
+/// `models.lsda.self_interaction`, `errors.models.pbe.exchange`, `cusp_correction.hartree`).
+#[derive(Clone, Copy, Debug, PartialEq, Eq)]
+pub struct Quantity {
+    /// The enclosing object's path (`""` at the top of the record, `models`, `errors.models`...).
+    pub group: &'static str,
+    /// Which model, by its position in the record's model order, if the number is one model's.
+    pub model: Option<usize>,
+    /// The number's own key.
+    pub name: &'static str,
+}
+
+impl Quantity {
+    /// The dotted name, with the model's name from `models` (in the record's model order).
+    pub fn path(&self, models: &[&str]) -> String {
+        let model = self.model.map(|m| models.get(m).map_or_else(|| format!("model {}", m + 1), |n| n.to_string()));
+        [Some(self.group.to_string()), model, Some(self.name.to_string())]
+            .into_iter()
+            .flatten()
+            .filter(|p| !p.is_empty())
+            .collect::<Vec<_>>()
+            .join(".")
+    }
+}
+
+impl OrbitalReport {
+    /// Every number the reports show of this record, with where it sits (energies in hartree).
+    pub fn numbers(&self) -> Vec<(Quantity, f64)> {
+        let q = |group, model, name| Quantity { group, model, name };
+        let mut out = vec![(q("", None, "occupation"), self.occupation), (q("", None, "norm"), self.norm)];
+        out.extend(self.energy.map(|e| (q("", None, "energy"), e)));
+        out.push((q("", None, "lost_charge"), self.lost_charge));
+        out.push((q("", None, "hartree"), self.hartree));
+        out.push((q("", None, "optimal_alpha"), self.optimal_alpha));
+        for (m, e) in self.models.iter().enumerate() {
+            let at = |name| q("models", Some(m), name);
+            out.extend([(at("exchange"), e.exchange), (at("correlation"), e.correlation)]);
+            out.extend([(at("self_interaction"), e.self_interaction), (at("cancellation"), e.cancellation)]);
+        }
+        if let Some(errors) = &self.errors {
+            out.push((q("errors", None, "hartree"), errors.hartree));
+            for (m, e) in errors.models.iter().enumerate() {
+                let at = |name| q("errors.models", Some(m), name);
+                out.extend([(at("exchange"), e.exchange), (at("correlation"), e.correlation), (at("self_interaction"), e.self_interaction)]);
+            }
+        }
+        let changes = |group: &'static str, models: &[(f64, f64)]| -> Vec<(Quantity, f64)> {
+            let at = |m, name| q(group, Some(m), name);
+            models.iter().enumerate().flat_map(|(m, d)| [(at(m, "exchange"), d.0), (at(m, "correlation"), d.1)]).collect()
+        };
+        if let Some(c) = &self.cusp_correction {
+            out.extend(c.hartree.map(|h| (q("cusp_correction", None, "hartree"), h)));
+            out.extend(changes("cusp_correction.models", &c.models));
+        }
+        if let Some(t) = &self.tail_correction {
+            out.extend([(q("tail_correction", None, "lost_charge"), t.lost_charge), (q("tail_correction", None, "hartree"), t.hartree)]);
+            out.extend(changes("tail_correction.models", &t.models));
+        }
+        if let Some(c) = &self.input {
+            out.extend([(q("input", None, "orthonormality"), c.orthonormality), (q("input", None, "tolerance"), c.tolerance)]);
+        }
+        if let Some(e) = self.kind_origin.as_ref().and_then(|k| k.evidence) {
+            let at = |name| q("kind_evidence", None, name);
+            out.extend([(at("integral"), e.integral), (at("square_integral"), e.square_integral)]);
+            out.extend([(at("negative_share"), e.negative_share), (at("nuclear_charge"), e.nuclear_charge)]);
+        }
+        out
+    }
+
+    /// The numbers of the record that are infinite or NaN, which are no results.
+    pub fn non_finite(&self) -> Vec<(Quantity, f64)> {
+        self.numbers().into_iter().filter(|(_, v)| !v.is_finite()).collect()
+    }
+}
+
+/// Why a number that is not finite is no result, for the reports: `not a finite number (NaN)`.
+pub fn non_finite_reason(value: f64) -> String {
+    format!("not a finite number ({value})")
+}
+
 /// How a basis-set file's numbers were read, and the evidence that the reading is right: the
 /// same for every orbital of the file.
 #[derive(Clone, Debug, PartialEq, Serialize, Deserialize)]
@@ -285,6 +366,9 @@ pub enum Flag {
     NormOff,
     /// The values look like densities given as amplitudes, or the reverse.
     KindSuspicious,
+    /// Some number of the record came out infinite or NaN: that number is not a result (reports
+    /// show it as not one; see [`OrbitalReport::non_finite`]). Set by [`Ranking::new`].
+    NotFinite,
 }
 
 impl Flag {
@@ -295,6 +379,7 @@ impl Flag {
             Flag::TruncatedBox => "truncated-box",
             Flag::NormOff => "norm-off",
             Flag::KindSuspicious => "kind-suspicious",
+            Flag::NotFinite => "not-finite",
         }
     }
 }
@@ -626,31 +711,64 @@ pub struct ModelTotals {
 pub struct Ranking {
     /// Index of the model that orders the orbitals.
     pub rank_by: usize,
-    /// Orbital reports, worst first: decreasing |δ_i| under the ranking model.
+    /// Orbital reports, worst first: decreasing |δ_i| under the ranking model; records without
+    /// a finite δ under it last, in input order.
     pub orbitals: Vec<OrbitalReport>,
-    /// Per model, in the engine's model order.
-    pub totals: Vec<ModelTotals>,
+    /// Per model, in the engine's model order: the totals, or why there are none (a sum that
+    /// misses some orbital is not the calculation's: records without a finite δ or −E_x/J under
+    /// the model, or, set by [`Ranking::withhold_totals`], files that failed).
+    pub totals: Vec<Result<ModelTotals, String>>,
     /// Occupied spin-orbitals counted (Σ g_i).
     pub spin_orbitals: u32,
 }
 
+/// The beginning of every reason a total is withheld for.
+const INCOMPLETE_PREFIX: &str = "incomplete: ";
+
 impl Ranking {
-    /// Ranks `orbitals` by |δ_i| of model `rank_by` (ties keep their input order).
+    /// Ranks `orbitals` by |δ_i| of model `rank_by` (ties keep their input order). Records with
+    /// a number that is not finite get the [`Flag::NotFinite`] flag; those without a finite δ
+    /// under `rank_by` are not ranked as numbers but put last.
     pub fn new(mut orbitals: Vec<OrbitalReport>, rank_by: usize) -> Self {
-        let key = |o: &OrbitalReport| o.models.get(rank_by).map_or(0.0, |m| m.self_interaction.abs());
-        orbitals.sort_by(|a, b| key(b).total_cmp(&key(a)));
+        for o in &mut orbitals {
+            if !o.non_finite().is_empty() && !o.flags.contains(&Flag::NotFinite) {
+                o.flags.push(Flag::NotFinite);
+            }
+        }
+        let key = |o: &OrbitalReport| o.models.get(rank_by).map_or(Some(0.0), |m| Some(m.self_interaction.abs()).filter(|d| d.is_finite()));
+        // Finite before not, then decreasing |δ|.
+        orbitals.sort_by(|a, b| match (key(a), key(b)) {
+            (Some(x), Some(y)) => y.total_cmp(&x),
+            (x, y) => y.is_some().cmp(&x.is_some()),
+        });
         let model_count = orbitals.first().map_or(0, |o| o.models.len());
         let spin_orbitals: u32 = orbitals.iter().map(|o| o.spin.spin_orbitals()).sum();
         let weighted = |m: usize, q: fn(&ModelEnergies) -> f64| -> f64 {
             orbitals.iter().map(|o| o.spin.spin_orbitals() as f64 * q(&o.models[m])).sum()
         };
         let totals = (0..model_count)
-            .map(|m| ModelTotals {
-                perdew_zunger: -weighted(m, |e| e.self_interaction),
-                mean_cancellation: weighted(m, |e| e.cancellation) / spin_orbitals as f64,
+            .map(|m| {
+                let missing = orbitals.iter().filter(|o| !(o.models[m].self_interaction.is_finite() && o.models[m].cancellation.is_finite())).count();
+                if missing > 0 {
+                    let n = orbitals.len();
+                    return Err(format!("{INCOMPLETE_PREFIX}{missing} of {n} orbital records without a finite δ under this model"));
+                }
+                Ok(ModelTotals {
+                    perdew_zunger: -weighted(m, |e| e.self_interaction),
+                    mean_cancellation: weighted(m, |e| e.cancellation) / spin_orbitals as f64,
+                })
             })
             .collect();
         Ranking { rank_by, orbitals, totals, spin_orbitals }
+    }
+
+    /// Withholds every total for `reason` (which says what is missing, without the `incomplete: `
+    /// that every reason starts with), keeping any reason given before.
+    pub fn withhold_totals(&mut self, reason: &str) {
+        for t in &mut self.totals {
+            let before = t.as_ref().err().map_or(String::new(), |r| format!("; {}", r.strip_prefix(INCOMPLETE_PREFIX).unwrap_or(r)));
+            *t = Err(format!("{INCOMPLETE_PREFIX}{reason}{before}"));
+        }
     }
 }
 
@@ -717,12 +835,57 @@ mod tests {
         assert_eq!(ranking.spin_orbitals, 3);
         for m in 0..2 {
             let want = -(2.0 * a.models[m].self_interaction + b.models[m].self_interaction);
-            assert!((ranking.totals[m].perdew_zunger - want).abs() < 1e-15);
+            let t = ranking.totals[m].as_ref().unwrap();
+            assert!((t.perdew_zunger - want).abs() < 1e-15);
             let mean = (2.0 * a.models[m].cancellation + b.models[m].cancellation) / 3.0;
-            assert!((ranking.totals[m].mean_cancellation - mean).abs() < 1e-15);
+            assert!((t.mean_cancellation - mean).abs() < 1e-15);
         }
         // One solver for both orbitals' grid, one for the coarse sub-lattices of the error bars.
         assert_eq!(e.solvers.lock().unwrap().len(), 2);
+    }
+
+    #[test]
+    fn numbers_that_are_not_finite_are_flagged_ranked_last_and_kept_out_of_the_totals() {
+        let e = engine(&["lsda-x", "lsda"]);
+        let good = |exponent| e.analyse(&gaussian_orbital(Spin::Alpha, exponent, 1.0), Parallelism::Sequential).unwrap();
+        let (small, large) = (good(0.5), good(3.0));
+        // A NaN δ under the second model only, and a NaN error bar: what a path without its own
+        // guard could hand over.
+        let mut bad = good(1.0);
+        bad.models[1].self_interaction = f64::NAN;
+        bad.errors.as_mut().unwrap().hartree = f64::INFINITY;
+        let names = ["lsda-x", "lsda"];
+        let paths: Vec<String> = bad.non_finite().iter().map(|(q, _)| q.path(&names)).collect();
+        assert_eq!(paths, ["models.lsda.self_interaction", "errors.hartree"]);
+        assert_eq!(non_finite_reason(f64::NAN), "not a finite number (NaN)");
+        assert!(small.non_finite().is_empty() && small.numbers().len() > 10);
+
+        // Under the first model the bad record has a finite δ and is ranked by it.
+        let by_first = Ranking::new(vec![bad.clone(), small.clone(), large.clone()], 0);
+        let d0 = |o: &OrbitalReport| o.models[0].self_interaction.abs();
+        assert!(by_first.orbitals.windows(2).all(|w| d0(&w[0]) >= d0(&w[1])));
+        let flagged: Vec<bool> = by_first.orbitals.iter().map(|o| o.flags.contains(&Flag::NotFinite)).collect();
+        assert_eq!(flagged.iter().filter(|&&f| f).count(), 1);
+        let t0 = by_first.totals[0].as_ref().unwrap();
+        assert!((t0.perdew_zunger + bad.models[0].self_interaction + small.models[0].self_interaction + large.models[0].self_interaction).abs() < 1e-15);
+        assert_eq!(by_first.totals[1], Err("incomplete: 1 of 3 orbital records without a finite δ under this model".to_string()));
+
+        // Under the second, wherever it stood, it goes last; the others keep their order.
+        for input in [vec![bad.clone(), small.clone(), large.clone()], vec![small.clone(), bad.clone(), large.clone()]] {
+            let r = Ranking::new(input, 1);
+            assert_eq!(r.orbitals.last().unwrap().label, bad.label);
+            assert!(r.orbitals[0].models[1].self_interaction.abs() >= r.orbitals[1].models[1].self_interaction.abs());
+            assert_eq!(r.orbitals.last().unwrap().flags.iter().filter(|f| **f == Flag::NotFinite).count(), 1);
+        }
+        // Ranking a ranked set again flags nothing twice; withholding keeps the earlier reason.
+        let mut again = Ranking::new(by_first.orbitals.clone(), 0);
+        assert_eq!(again.orbitals.iter().map(|o| o.flags.len()).sum::<usize>(), by_first.orbitals.iter().map(|o| o.flags.len()).sum::<usize>());
+        again.withhold_totals("1 of 4 files failed");
+        assert_eq!(again.totals[0], Err("incomplete: 1 of 4 files failed".to_string()));
+        assert_eq!(
+            again.totals[1],
+            Err("incomplete: 1 of 4 files failed; 1 of 3 orbital records without a finite δ under this model".to_string())
+        );
     }
 
     #[test]

@@ -1,8 +1,8 @@
 //! The batch runner: every calculation of a workflow, ranked, with set-wide reports.
 //!
 //! All files of all calculations are scheduled together (see [`crate::calculation`] for the
-//! bounded-memory strategy). A file that fails fails its calculation; every other calculation
-//! completes. Finished orbitals go to a content-addressed cache in the report directory as they
+//! bounded-memory strategy). A file that fails fails its calculation, which then gets no totals;
+//! every other calculation completes. Finished orbitals go to a content-addressed cache in the report directory as they
 //! finish, so an interrupted run resumes where it stopped and gives the same reports. A
 //! calculation's total-density file, if it names one, is checked against the atoms it lists and
 //! against the calculation's orbitals (see [`crate::inspect`]).
@@ -11,7 +11,7 @@ pub mod summary;
 pub mod workflow;
 
 use crate::cache::ResultCache;
-use crate::calculation::{FileFailure, FileJob, Outcome, analyse_localized, count_orbitals, run_files, split};
+use crate::calculation::{FileFailure, FileJob, Outcome, analyse_localized, count_orbitals, files_failed, run_files, split};
 use std::path::PathBuf;
 use crate::inspect::{FileInspection, InspectParams, inspect_file};
 use crate::par::Parallelism;
@@ -89,11 +89,14 @@ pub fn run(workflow: &Workflow, params: &BatchParams, progress: &dyn Progress) -
                     }
                 }
             });
-            let ranking = Ranking::new(orbitals, workflow.rank_by);
+            let mut ranking = Ranking::new(orbitals, workflow.rank_by);
+            if !failures.is_empty() {
+                ranking.withhold_totals(&files_failed(failures.len(), c.files.len() + usize::from(c.density.is_some())));
+            }
             out.push(CalculationResult {
                 name: c.name.clone(),
                 tags: c.tags.clone(),
-                outcome: Outcome { ranking, failures, localization: Vec::new() },
+                outcome: Outcome { ranking, failures, localization: Vec::new(), duplicates: c.duplicates.clone() },
                 density,
             });
         }
@@ -103,7 +106,10 @@ pub fn run(workflow: &Workflow, params: &BatchParams, progress: &dyn Progress) -
             let name = localized_name(&c.name);
             let job = FileJob { calculation: name.clone(), path: PathBuf::from(format!("{} file(s), localized", c.files.len())), load: c.load.clone() };
             progress.file_started(&job);
-            let outcome = analyse_localized(&c.files, &c.load, &engine, &c.localize, workflow.rank_by, Parallelism::Rayon);
+            let outcome = Outcome {
+                duplicates: c.duplicates.clone(),
+                ..analyse_localized(&c.files, &c.load, &engine, &c.localize, workflow.rank_by, Parallelism::Rayon)
+            };
             match outcome.failures.first() {
                 Some(f) => progress.file_failed(&job, &f.error),
                 None => progress.file_done(&job, outcome.ranking.orbitals.len(), 0),

@@ -279,6 +279,7 @@ impl SetSummary {
                 })
             })
             .collect();
+        pairs.retain(|w| w.self_interaction().is_finite());
         pairs.sort_by(|a, b| b.self_interaction().abs().total_cmp(&a.self_interaction().abs()));
         pairs.truncate(worst);
         SetSummary {
@@ -338,7 +339,7 @@ mod tests {
         CalculationResult {
             name: name.into(),
             tags: tags.iter().map(|t| t.to_string()).collect(),
-            outcome: Outcome { ranking: Ranking::new(orbitals, 0), failures, localization: Vec::new() },
+            outcome: Outcome { ranking: Ranking::new(orbitals, 0), failures, localization: Vec::new(), duplicates: Vec::new() },
             density: None,
         }
     }

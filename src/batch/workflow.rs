@@ -37,7 +37,7 @@
 //! value is deserialised, so that every error carries the YAML line and column.
 
 use crate::diagnostics::Spin;
-use crate::calculation::OrbitalSets;
+use crate::calculation::{DuplicateFile, OrbitalSets, distinct_files};
 use crate::input::{Kind, LoadParams, SpinRule};
 use crate::localize::LocalizeParams;
 use crate::molecular::{MIN_UNIFORM_SPACING, MolecularParams};
@@ -85,8 +85,11 @@ pub struct CalculationPlan {
     pub tags: Vec<String>,
     /// How its files are read.
     pub load: LoadParams,
-    /// Its orbital files (grid or basis-set), in pattern order, each pattern's matches sorted.
+    /// Its orbital files (grid or basis-set), in pattern order, each pattern's matches sorted,
+    /// each content once ([`distinct_files`]).
     pub files: Vec<PathBuf>,
+    /// The files matched that hold the same bytes as one of `files`, left out.
+    pub duplicates: Vec<DuplicateFile>,
     /// Which orbital sets are analysed (the localized set reports as `NAME (localized)`).
     pub orbitals: OrbitalSets,
     /// How localized orbitals are formed.
@@ -482,12 +485,15 @@ impl Workflow {
             .calculations
             .into_iter()
             .map(|c| {
-                let mut files: Vec<PathBuf> = Vec::new();
+                // The same path from several patterns is no news; the same bytes under another
+                // name are, and are noted.
+                let mut matched: Vec<PathBuf> = Vec::new();
                 for p in c.files.into_iter().flat_map(|p| p.0) {
-                    if !files.contains(&p) {
-                        files.push(p);
+                    if !matched.contains(&p) {
+                        matched.push(p);
                     }
                 }
+                let (files, duplicates) = distinct_files(&matched);
                 let spin = match c.spin {
                     SpinSpec::FromName => SpinRule::FromName,
                     SpinSpec::Restricted => SpinRule::Fixed(Spin::Restricted),
@@ -514,6 +520,7 @@ impl Workflow {
                     tags: c.tags,
                     load: LoadParams { kind, spin, occupation, molecular, ..LoadParams::default() },
                     files,
+                    duplicates,
                     orbitals: match c.orbitals {
                         OrbitalsSpec::Canonical => OrbitalSets::Canonical,
                         OrbitalsSpec::Localized => OrbitalSets::Localized,
@@ -558,7 +565,8 @@ mod tests {
         for f in ["a/orbital_001.cube", "a/orbital_002.cube", "b/orbital_alpha_001.cube"] {
             let p = dir.path().join(f);
             std::fs::create_dir_all(p.parent().unwrap()).unwrap();
-            std::fs::write(p, "").unwrap();
+            // Distinct contents: files with the same bytes are one file to a workflow.
+            std::fs::write(p, f).unwrap();
         }
         let wf = dir.path().join("set.yaml");
         std::fs::write(&wf, yaml).unwrap();
@@ -574,6 +582,16 @@ mod tests {
         let c = &w.calculations[0];
         // Each file once, in pattern order.
         assert_eq!(c.files, vec![dir.path().join("a/orbital_001.cube"), dir.path().join("a/orbital_002.cube")]);
+        assert!(c.duplicates.is_empty());
+        // A copy under another name is left out, and noted.
+        std::fs::copy(dir.path().join("a/orbital_002.cube"), dir.path().join("a/orbital_003.cube")).unwrap();
+        let c = &Workflow::load(&dir.path().join("set.yaml")).unwrap().calculations[0];
+        assert_eq!(c.files.len(), 2);
+        let copy = DuplicateFile {
+            source: dir.path().join("a/orbital_003.cube").display().to_string(),
+            same_as: dir.path().join("a/orbital_002.cube").display().to_string(),
+        };
+        assert_eq!(c.duplicates, [copy]);
         assert_eq!(c.load.kind, None);
         assert_eq!(c.load.spin, SpinRule::FromName);
         assert_eq!(w.report.dir, dir.path().join("report"));

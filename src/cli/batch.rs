@@ -51,6 +51,11 @@ pub fn run_batch(args: BatchArgs, threads: Option<usize>) -> anyhow::Result<Stat
         workflow.report.dir = dir;
     }
     workflow.report.date = args.date;
+    for c in &workflow.calculations {
+        for d in &c.duplicates {
+            eprintln!("sixray: warning: calculation {}: {} has the same content as {}; analysed once, as {}", c.name, d.source, d.same_as, d.same_as);
+        }
+    }
     for c in workflow.calculations.iter().filter(|c| c.load.molecular.uniform_spacing.is_some()) {
         match uniform_grid_scope("uniform_grid", &c.files) {
             Ok(Some(warning)) => eprintln!("sixray: warning: calculation {}: {warning}", c.name),
@@ -73,6 +78,10 @@ pub fn run_batch(args: BatchArgs, threads: Option<usize>) -> anyhow::Result<Stat
     for c in &results {
         for w in c.outcome.ranking.orbitals.iter().filter_map(sixray::report::kind_warning) {
             eprintln!("sixray: warning: calculation {}: {w} (the workflow's `kind:`)", c.name);
+        }
+        let r = sixray::report::Report { models: &workflow.models, outcome: &c.outcome, top: None };
+        for w in sixray::report::non_finite_warnings(&r) {
+            eprintln!("sixray: warning: calculation {}: {w}", c.name);
         }
     }
     for c in results.iter().filter(|c| !c.is_ok()) {

@@ -242,16 +242,24 @@ pub fn run(args: RankArgs) -> anyhow::Result<Status> {
     if sets.localized() {
         outcomes.push((OrbitalSet::Localized, analyse_localized(&files, &load, &engine, &localize, rank_by, Parallelism::Rayon)));
     }
-    for (_, outcome) in &outcomes {
-        for f in &outcome.failures {
-            eprintln!("sixray: error: {}", f.error);
-        }
-        for w in outcome.ranking.orbitals.iter().filter_map(report::kind_warning) {
-            eprintln!("sixray: warning: {w}");
+    // Each set's analysis leaves out the same files: say so once.
+    let mut duplicates = Vec::new();
+    for d in outcomes.iter().flat_map(|(_, o)| &o.duplicates) {
+        if !duplicates.contains(&d) {
+            eprintln!("sixray: warning: {} has the same content as {}; analysed once, as {}", d.source, d.same_as, d.same_as);
+            duplicates.push(d);
         }
     }
     let reports: Vec<(OrbitalSet, Report)> =
         outcomes.iter().map(|(set, outcome)| (*set, Report { models: engine.models(), outcome, top: args.top })).collect();
+    for (_, r) in &reports {
+        for f in &r.outcome.failures {
+            eprintln!("sixray: error: {}", f.error);
+        }
+        for w in r.outcome.ranking.orbitals.iter().filter_map(report::kind_warning).chain(report::non_finite_warnings(r)) {
+            eprintln!("sixray: warning: {w}");
+        }
+    }
     let text = render(&reports, args.format, args.units);
     match &args.output {
         Some(path) => report::write_atomic(path, text.as_bytes()).with_context(|| format!("writing {}", path.display()))?,
@@ -270,7 +278,9 @@ pub fn run(args: RankArgs) -> anyhow::Result<Status> {
         if !over.is_empty() {
             eprintln!("sixray: {} orbital(s) with |δ| above {limit} {} under {}:", over.len(), args.units.symbol(), model.name);
             for o in over {
-                eprintln!("  {} ({}): δ = {} {}", o.label, o.source, args.units.format(o.models[rank_by].self_interaction), args.units.symbol());
+                let delta = o.models[rank_by].self_interaction;
+                let value = if delta.is_finite() { format!("{} {}", args.units.format(delta), args.units.symbol()) } else { format!("not a finite number ({delta})") };
+                eprintln!("  {} ({}): δ = {value}", o.label, o.source);
             }
             return Ok(Status::AboveThreshold);
         }

@@ -16,8 +16,9 @@
 //!                "flags": {FLAG: number of orbital records}, "tolerance", "cusp_correction",
 //!                "tail_correction" },
 //!   "calculations": [ {"name", "tags", "status": "ok" | "failed", "error" (when failed),
-//!                      "failures": [{"source", "error"}], "orbitals": [...as in rank],
-//!                      "totals": {MODEL: {"perdew_zunger", "mean_cancellation"}},
+//!                      "failures": [{"source", "error"}], "duplicates": [...as in rank] (only
+//!                      where some), "orbitals": [...as in rank],
+//!                      "totals": {MODEL: ...as in rank: null with "invalid" when withheld},
 //!                      "spin_orbitals", "counted": COUNTED (null when failed),
 //!                      "density_check": (as one file of `inspect --format json`) or null,
 //!                      "localization": [...as in rank] } ],
@@ -41,10 +42,11 @@
 //! writes the same bytes. (`report.html` shows a date: the caller's, or the newest modification
 //! date among the input files, which a rerun does not change.)
 
-use super::text::{Table, input_lines, localization_line, markdown_failures, markdown_orbitals, markdown_totals};
+use super::text::{Table, input_lines, localization_line, markdown_duplicates, markdown_failures, markdown_orbitals, markdown_totals};
 use super::{EnergyUnit, Report, csv, flags_text, html, json, set};
 use crate::batch::summary::{Coverage, LeftOut, ModelStats, SetSummary};
 use crate::batch::{CalculationResult, ReportFormat, Workflow};
+use crate::diagnostics::Flag;
 use serde_json::{Map, Value, json};
 use std::path::PathBuf;
 
@@ -219,6 +221,9 @@ pub fn to_value(report: &BatchReport) -> Value {
                 map.insert("error".into(), json!(first.error));
             }
             map.insert("failures".into(), json!(json::failures(&c.outcome.failures)));
+            if !c.outcome.duplicates.is_empty() {
+                map.insert("duplicates".into(), json!(json::duplicates(&c.outcome.duplicates)));
+            }
             map.insert("orbitals".into(), json!(json::orbitals(&r)));
             map.insert("totals".into(), json::totals(&r));
             map.insert("spin_orbitals".into(), json!(c.outcome.ranking.spin_orbitals));
@@ -295,6 +300,13 @@ pub fn render_markdown(report: &BatchReport, unit: EnergyUnit) -> String {
         let list = flagged.iter().map(|(f, n)| format!("{n} {f}")).collect::<Vec<_>>().join(", ");
         out += &format!("Orbital records flagged by the grid checks: {list} (tolerance {} {u}).\n\n", unit.format(wf.trust.tolerance));
     }
+    if let Some((_, n)) = flagged.iter().find(|(f, _)| *f == Flag::NotFinite.as_str()) {
+        out += &format!(
+            "{n} orbital record(s) flagged not-finite have numbers that are not finite (infinite or NaN; shown as {}): they are left out \
+             of the statistics, and their calculations' totals under the models concerned are withheld.\n\n",
+            super::INVALID
+        );
+    }
     // Which corrections the grid-file values carry.
     out += &format!(
         "Grid files: cusp correction {}; tail correction {}.\n\n",
@@ -342,7 +354,11 @@ pub fn render_markdown(report: &BatchReport, unit: EnergyUnit) -> String {
     for (c, counted) in report.results.iter().zip(&s.calculations) {
         let mut row = vec![c.name.clone(), c.tags.join(", "), counted.as_ref().map_or("failed".into(), |k| counted_cell(k, tol, unit))];
         for tot in &c.outcome.ranking.totals {
-            row.push(if c.is_ok() { unit.format(tot.perdew_zunger) } else { "failed".into() });
+            row.push(match tot {
+                _ if !c.is_ok() => "failed".into(),
+                Ok(tot) => unit.format(tot.perdew_zunger),
+                Err(_) => super::INCOMPLETE.into(),
+            });
         }
         row.resize(3 + wf.models.len(), "failed".into());
         t.rows.push(row);
@@ -408,6 +424,10 @@ pub fn render_markdown(report: &BatchReport, unit: EnergyUnit) -> String {
         if !c.is_ok() {
             out += "**Failed**: the orbitals below are incomplete and excluded from the statistics above.\n\n";
             out += &markdown_failures(&c.outcome.failures);
+            out += "\n";
+        }
+        if !c.outcome.duplicates.is_empty() {
+            out += &markdown_duplicates(&r);
             out += "\n";
         }
         for l in input_lines(&c.outcome.ranking.orbitals) {

@@ -1,4 +1,6 @@
-//! The CSV report: one row per (orbital, model), hartree throughout, ready for data frames.
+//! The CSV report: one row per (orbital, model), hartree throughout, ready for data frames. A
+//! number that is not finite is an empty cell, as a missing one is; the row's `flags` then hold
+//! `not-finite`.
 
 use super::Report;
 
@@ -52,8 +54,10 @@ pub fn render(report: &Report) -> String {
 /// Appends one line per (shown orbital, model), each starting with the `leading` cells (already
 /// quoted where needed).
 pub fn rows(report: &Report, leading: &[String], out: &mut String) {
-    // Error bars and cusp corrections are empty cells where there are none.
-    let opt = |v: Option<f64>| v.map_or(String::new(), |v| v.to_string());
+    // Error bars and cusp corrections are empty cells where there are none; so is a number that
+    // is not finite (no result; the row's flags then say `not-finite`).
+    let num = |v: f64| if v.is_finite() { v.to_string() } else { String::new() };
+    let opt = |v: Option<f64>| v.map_or(String::new(), num);
     for (i, o) in report.shown().iter().enumerate() {
         let flags = o.flags.iter().map(|f| f.as_str()).collect::<Vec<_>>().join(";");
         for (k, (m, e)) in report.models.iter().zip(&o.models).enumerate() {
@@ -63,20 +67,20 @@ pub fn rows(report: &Report, leading: &[String], out: &mut String) {
                 field(&o.source),
                 field(&o.label),
                 o.spin.as_str().to_string(),
-                o.occupation.to_string(),
-                o.norm.to_string(),
-                o.lost_charge.to_string(),
-                o.hartree.to_string(),
+                num(o.occupation),
+                num(o.norm),
+                num(o.lost_charge),
+                num(o.hartree),
                 opt(o.errors.as_ref().map(|x| x.hartree)),
-                o.optimal_alpha.to_string(),
+                num(o.optimal_alpha),
                 field(&m.name),
-                e.exchange.to_string(),
+                num(e.exchange),
                 opt(err.map(|x| x.exchange)),
-                e.correlation.to_string(),
+                num(e.correlation),
                 opt(err.map(|x| x.correlation)),
-                e.self_interaction.to_string(),
+                num(e.self_interaction),
                 opt(err.map(|x| x.self_interaction)),
-                e.cancellation.to_string(),
+                num(e.cancellation),
                 flags.clone(),
                 o.errors.is_some().to_string(),
                 opt(o.cusp_correction.as_ref().and_then(|c| c.hartree)),

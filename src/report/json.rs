@@ -17,21 +17,32 @@
 //!                  read),
 //!                  "kind": "amplitude"|"density", "kind_source": "given"|"detected"|"computed"
 //!                  or null, "kind_evidence": {"integral", "square_integral", "negative_share",
-//!                  "nuclear_charge", "title"} or null} ],
-//!                  // worst first; corrections: corrected − plain
-//!   "totals": {MODEL: {"perdew_zunger", "mean_cancellation"}}, "spin_orbitals": N,
+//!                  "nuclear_charge", "title"} or null,
+//!                  "invalid": [{"quantity", "reason"}] (only where some number is null
+//!                  because it is not finite: its dotted name, e.g.
+//!                  "models.lsda.self_interaction", and why; the record is then flagged
+//!                  "not-finite")} ],
+//!                  // worst first (records without a finite δ under rank_by last);
+//!                  // corrections: corrected − plain
+//!   "totals": {MODEL: {"perdew_zunger", "mean_cancellation"} or, where withheld (a file
+//!              failed, or a record has no finite δ under MODEL), both null and "invalid":
+//!              [{"quantity", "reason": "incomplete: …"}]}, "spin_orbitals": N,
 //!   "failures": [{"source", "error"}],
+//!   "duplicates": [{"source", "same_as"}] (only where a file given has the bytes of an
+//!                  earlier one: left out, analysed once as `same_as`),
 //!   "localization": [{"source", "spin", "orbitals", "initial_functional", "functional",
 //!                     "sweeps", "converged"}] }   (localized orbitals only; L in bohr²)
 //! ```
 
 use super::Report;
-use crate::calculation::{FileFailure, LocalizationSummary};
+use crate::calculation::{DuplicateFile, FileFailure, LocalizationSummary};
+use crate::diagnostics::non_finite_reason;
 use crate::xc::Model;
 use serde_json::{Map, Value, json};
 
 /// The shown orbitals, ranked, as in the `orbitals` list.
 pub fn orbitals(report: &Report) -> Vec<Value> {
+    let names: Vec<&str> = report.models.iter().map(|m| m.name.as_str()).collect();
     report
         .shown()
         .iter()
@@ -67,7 +78,7 @@ pub fn orbitals(report: &Report) -> Vec<Value> {
                     .collect::<Map<_, _>>();
                 json!({"hartree": e.hartree, "models": per_model})
             });
-            json!({
+            let mut v = json!({
                 "rank": i + 1,
                 "source": o.source,
                 "label": o.label,
@@ -109,9 +120,34 @@ pub fn orbitals(report: &Report) -> Vec<Value> {
                     "nuclear_charge": e.nuclear_charge,
                     "title": e.title,
                 })),
-            })
+            });
+            // serde_json writes a number that is not finite as null: say which, and why.
+            let bad = o.non_finite();
+            if !bad.is_empty() {
+                let list = bad.iter().map(|(q, v)| invalid(&q.path(&names), &non_finite_reason(*v))).collect::<Vec<_>>();
+                insert_after(&mut v, "flags", "invalid", json!(list));
+            }
+            v
         })
         .collect()
+}
+
+/// One entry of an `invalid` list: a number shown as null, and why it is no result.
+fn invalid(quantity: &str, reason: &str) -> Value {
+    json!({"quantity": quantity, "reason": reason})
+}
+
+/// Inserts `key` right after `after` in the object `v` (keys keep their order in the output).
+fn insert_after(v: &mut Value, after: &str, key: &str, value: Value) {
+    let Some(map) = v.as_object_mut() else { return };
+    let entries: Vec<(String, Value)> = std::mem::take(map).into_iter().collect();
+    for (k, x) in entries {
+        let here = k == after;
+        map.insert(k, x);
+        if here {
+            map.insert(key.to_string(), value.clone());
+        }
+    }
 }
 
 /// A correction's (exchange, correlation) changes, keyed by model name.
@@ -119,15 +155,30 @@ fn changes_per_model(report: &Report, changes: &[(f64, f64)]) -> Map<String, Val
     report.models.iter().zip(changes).map(|(m, d)| (m.name.clone(), json!({"exchange": d.0, "correlation": d.1}))).collect()
 }
 
-/// Per-model totals, keyed by model name.
+/// Per-model totals, keyed by model name; a withheld one as nulls with the reason.
 pub fn totals(report: &Report) -> Value {
     let totals = report
         .models
         .iter()
         .zip(&report.outcome.ranking.totals)
-        .map(|(m, t)| (m.name.clone(), json!({ "perdew_zunger": t.perdew_zunger, "mean_cancellation": t.mean_cancellation })))
+        .map(|(m, t)| {
+            let v = match t {
+                Ok(t) => json!({ "perdew_zunger": t.perdew_zunger, "mean_cancellation": t.mean_cancellation }),
+                Err(reason) => json!({
+                    "perdew_zunger": null,
+                    "mean_cancellation": null,
+                    "invalid": [invalid("perdew_zunger", reason), invalid("mean_cancellation", reason)],
+                }),
+            };
+            (m.name.clone(), v)
+        })
         .collect::<Map<_, _>>();
     Value::Object(totals)
+}
+
+/// Files left out for having the same bytes as another, as in the `duplicates` list.
+pub fn duplicates(duplicates: &[DuplicateFile]) -> Vec<Value> {
+    duplicates.iter().map(|d| json!({"source": d.source, "same_as": d.same_as})).collect()
 }
 
 /// The models with their functionals.
@@ -158,7 +209,7 @@ pub fn tool() -> Value {
 /// The report as a JSON value.
 pub fn to_value(report: &Report) -> Value {
     let ranking = &report.outcome.ranking;
-    json!({
+    let mut v = json!({
         "tool": tool(),
         "units": "hartree",
         "rank_by": report.models.get(ranking.rank_by).map(|m| m.name.as_str()),
@@ -168,7 +219,11 @@ pub fn to_value(report: &Report) -> Value {
         "spin_orbitals": ranking.spin_orbitals,
         "failures": failures(&report.outcome.failures),
         "localization": localization(&report.outcome.localization),
-    })
+    });
+    if !report.outcome.duplicates.is_empty() {
+        insert_after(&mut v, "failures", "duplicates", json!(duplicates(&report.outcome.duplicates)));
+    }
+    v
 }
 
 /// Per localized spin channel: files, spin, orbitals, L before and after (bohr²), sweeps,

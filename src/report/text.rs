@@ -3,9 +3,10 @@
 //! The terminal table is compact (one δ and one cancellation ratio per model); Markdown carries
 //! every energy, since documents can be wide.
 
-use super::{EnergyUnit, Report, flags_text};
+use super::{EnergyUnit, INCOMPLETE, Report, fixed, flags_text};
 use crate::calculation::LocalizationSummary;
-use crate::diagnostics::OrbitalReport;
+use crate::diagnostics::{Flag, OrbitalReport};
+use super::INVALID;
 
 /// A table of text cells with per-column alignment (true: right-aligned).
 pub(crate) struct Table {
@@ -92,9 +93,9 @@ fn orbital_cells(rank: usize, o: &OrbitalReport, unit: EnergyUnit) -> Vec<String
         rank.to_string(),
         o.label.clone(),
         o.spin.as_str().to_string(),
-        format!("{:.4}", o.norm),
+        fixed(o.norm, 4),
         unit.format_with_error(o.hartree, o.errors.as_ref().map(|e| e.hartree)),
-        format!("{:.4}", o.optimal_alpha),
+        fixed(o.optimal_alpha, 4),
     ]
 }
 
@@ -116,15 +117,38 @@ fn totals_table(report: &Report, unit: EnergyUnit) -> Table {
         ("mean −Ex/J", true),
     ]);
     for (m, tot) in report.models.iter().zip(&report.outcome.ranking.totals) {
-        t.rows.push(vec![
-            m.name.clone(),
-            m.exchange.id(),
-            m.correlation.as_ref().map_or("—".into(), |c| c.id()),
-            unit.format(tot.perdew_zunger),
-            format!("{:.4}", tot.mean_cancellation),
-        ]);
+        let (pz, mean) = match tot {
+            Ok(tot) => (unit.format(tot.perdew_zunger), fixed(tot.mean_cancellation, 4)),
+            Err(_) => (INCOMPLETE.into(), INCOMPLETE.into()),
+        };
+        t.rows.push(vec![m.name.clone(), m.exchange.id(), m.correlation.as_ref().map_or("—".into(), |c| c.id()), pz, mean]);
     }
     t
+}
+
+/// Why totals are withheld, one line per distinct reason with the models it applies to:
+/// `lsda, pbe: incomplete: 1 of 3 files failed` (empty when every total stands).
+pub fn withheld_lines(report: &Report) -> Vec<String> {
+    let mut reasons: Vec<(&str, Vec<&str>)> = Vec::new();
+    for (m, tot) in report.models.iter().zip(&report.outcome.ranking.totals) {
+        let Err(reason) = tot else { continue };
+        match reasons.iter_mut().find(|(r, _)| r == reason) {
+            Some((_, models)) => models.push(&m.name),
+            None => reasons.push((reason, vec![&m.name])),
+        }
+    }
+    reasons.into_iter().map(|(r, models)| format!("no total for {}: {r}", models.join(", "))).collect()
+}
+
+/// One line on the records with numbers that are not finite, if there are any.
+pub fn non_finite_line(orbitals: &[OrbitalReport]) -> Option<String> {
+    let n = orbitals.iter().filter(|o| o.flags.contains(&Flag::NotFinite)).count();
+    (n > 0).then(|| {
+        format!(
+            "{n} orbital record(s) flagged not-finite: the numbers shown as {INVALID} are not finite (infinite or NaN) and no \
+             results; a record without a finite δ is ranked last, and no total includes it"
+        )
+    })
 }
 
 fn caption(report: &Report, unit: EnergyUnit) -> String {
@@ -188,15 +212,27 @@ pub fn render_table(report: &Report, unit: EnergyUnit) -> String {
         let mut row = orbital_cells(i + 1, o, unit);
         for (m, e) in o.models.iter().enumerate() {
             row.push(unit.format_with_error(e.self_interaction, model_error(o, m, 2)));
-            row.push(format!("{:.4}", e.cancellation));
+            row.push(fixed(e.cancellation, 4));
         }
         row.push(flags_text(o));
         t.rows.push(row);
     }
     let mut out = format!("{}\n\n{}\n", caption(report, unit), t.plain("  "));
+    if let Some(l) = non_finite_line(&report.outcome.ranking.orbitals) {
+        out += &format!("{l}.\n\n");
+    }
     if !report.outcome.ranking.orbitals.is_empty() {
         out += &format!("Per model, over all {} spin-orbitals:\n\n", report.outcome.ranking.spin_orbitals);
         out += &totals_table(report, unit).plain("  ");
+        for l in withheld_lines(report) {
+            out += &format!("  {l}\n");
+        }
+    }
+    if !report.outcome.duplicates.is_empty() {
+        out += "\nFiles with the same content as an earlier file:\n";
+        for d in &report.outcome.duplicates {
+            out += &format!("  {}\n", d.note());
+        }
     }
     let inputs = input_lines(&report.outcome.ranking.orbitals);
     if !inputs.is_empty() {
@@ -241,7 +277,7 @@ pub fn markdown_orbitals(report: &Report, unit: EnergyUnit) -> String {
         for (m, e) in o.models.iter().enumerate() {
             let values = [e.exchange, e.correlation, e.self_interaction];
             row.extend((0..3).map(|q| unit.format_with_error(values[q], model_error(o, m, q))));
-            row.push(format!("{:.4}", e.cancellation));
+            row.push(fixed(e.cancellation, 4));
         }
         row.push(flags_text(o));
         row.push(o.cusp_correction.as_ref().and_then(|c| c.hartree).map_or("—".into(), |d| unit.format(d)));
@@ -253,9 +289,20 @@ pub fn markdown_orbitals(report: &Report, unit: EnergyUnit) -> String {
     t.markdown()
 }
 
-/// Markdown table of the per-model totals.
+/// Markdown table of the per-model totals, with why any is withheld.
 pub fn markdown_totals(report: &Report, unit: EnergyUnit) -> String {
-    totals_table(report, unit).markdown()
+    let mut out = totals_table(report, unit).markdown();
+    let withheld = withheld_lines(report);
+    if !withheld.is_empty() {
+        out += "\n";
+        out += &withheld.iter().map(|l| format!("- {l}\n")).collect::<String>();
+    }
+    out
+}
+
+/// Markdown list of the files analysed once for having another's bytes (empty when none).
+pub fn markdown_duplicates(report: &Report) -> String {
+    report.outcome.duplicates.iter().map(|d| format!("- `{}`: same content as `{}`; analysed once\n", d.source, d.same_as)).collect()
 }
 
 /// Markdown list of failed files (empty when none failed).
@@ -266,8 +313,15 @@ pub fn markdown_failures(failures: &[crate::calculation::FileFailure]) -> String
 /// The Markdown document.
 pub fn render_markdown(report: &Report, unit: EnergyUnit) -> String {
     let mut out = format!("# Self-interaction ranking\n\n{}.\n\n{}", caption(report, unit), markdown_orbitals(report, unit));
+    if let Some(l) = non_finite_line(&report.outcome.ranking.orbitals) {
+        out += &format!("\n{l}.\n");
+    }
     out += "\n## Per model\n\n";
     out += &markdown_totals(report, unit);
+    if !report.outcome.duplicates.is_empty() {
+        out += "\n## Files with the same content as an earlier file\n\n";
+        out += &markdown_duplicates(report);
+    }
     let inputs = input_lines(&report.outcome.ranking.orbitals);
     if !inputs.is_empty() {
         out += "\n## Basis-set files\n\nConventions decided from the orbitals' orthonormality.\n\n";

@@ -9,6 +9,7 @@ mod common;
 mod cusp;
 mod faults_io;
 mod faults_stats;
+mod faults_results;
 mod functionals;
 mod html;
 mod inspect;

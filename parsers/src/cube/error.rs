@@ -120,6 +120,14 @@ pub enum CubeErrorKind {
         /// The limit, in bytes.
         limit: usize,
     },
+    /// The orbital-index list names one orbital twice: its values could be either field's.
+    #[error("orbital index {index} is listed twice (first on line {first_line}); each orbital of a file may be listed once")]
+    RepeatedOrbital {
+        /// The index as written.
+        index: i64,
+        /// The 1-based line of its first mention.
+        first_line: usize,
+    },
     /// The data ended before all declared values were read.
     #[error(
         "expected {expected} values after the header, found only {found} before the end of file"

@@ -156,6 +156,7 @@ fn read_orbital_list<R: BufRead>(lines: &mut Lines<'_, R>) -> Result<Vec<i64>, C
         return Err(f.bad_count(format!("orbital count (expected 1 to {MAX_ORBITALS})"), m));
     }
     let m = m.unsigned_abs();
+    // Each index with the line it is on.
     let mut ids = Vec::new();
     take_ids(&mut f, &mut ids, m)?;
     while (ids.len() as u64) < m {
@@ -163,16 +164,21 @@ fn read_orbital_list<R: BufRead>(lines: &mut Lines<'_, R>) -> Result<Vec<i64>, C
         let mut f = Fields::new(src, no, &text);
         take_ids(&mut f, &mut ids, m)?;
     }
-    Ok(ids)
+    Ok(ids.into_iter().map(|(id, _)| id).collect())
 }
 
-/// Takes orbital indices from one line until the list is complete or the line ends.
-fn take_ids(f: &mut Fields<'_, CubeError>, ids: &mut Vec<i64>, m: u64) -> Result<(), CubeError> {
+/// Takes orbital indices (with their line) from one line until the list is complete or the line
+/// ends. An index listed before is refused: which values would be that orbital's?
+fn take_ids(f: &mut Fields<'_, CubeError>, ids: &mut Vec<(i64, usize)>, m: u64) -> Result<(), CubeError> {
     while (ids.len() as u64) < m {
         if f.at_end() {
             return Ok(());
         }
-        ids.push(f.int(&format!("orbital index {} of {m}", ids.len() + 1))?);
+        let id = f.int(&format!("orbital index {} of {m}", ids.len() + 1))?;
+        if let Some(&(_, first_line)) = ids.iter().find(|(k, _)| *k == id) {
+            return Err(CubeError::new(f.src(), Some(f.line()), CubeErrorKind::RepeatedOrbital { index: id, first_line }));
+        }
+        ids.push((id, f.line()));
     }
     f.finish(&format!("the {m} orbital indices"))
 }

@@ -548,6 +548,21 @@ fn orbital_list_bad_counts_and_extras() {
 }
 
 #[test]
+fn orbital_list_repeating_an_index() {
+    // On one line, and across the lines of a wrapped list: the line of the repetition, and of
+    // the first mention.
+    for (list, repeated, line, first) in [(&["    2    3    3"][..], 3, 8, 8), (&["    3    4    5", "    4"][..], 4, 9, 8)] {
+        let e = fail(&with_orbital_list(list));
+        assert_eq!(e.line, Some(line), "{list:?}");
+        match &e.kind {
+            CubeErrorKind::RepeatedOrbital { index, first_line } => assert_eq!((*index, *first_line), (repeated, first)),
+            other => panic!("wrong kind {other:?}"),
+        }
+        assert!(e.to_string().contains(&format!(":{line}: orbital index")) && e.to_string().contains("listed twice"), "{e}");
+    }
+}
+
+#[test]
 fn trailing_values() {
     let e = fail(&with_line(9, "  5.0 6.0 7.0 8.0 9.0"));
     assert_eq!(e.line, Some(9));

@@ -128,7 +128,7 @@ pub fn delta_rows(report: &BatchReport) -> Vec<DeltaRow> {
                     label: o.label.clone(),
                     weight: o.spin.spin_orbitals(),
                     self_interaction: o.models[m].self_interaction,
-                    error: o.errors.as_ref().map(|e| e.models[m].self_interaction),
+                    error: o.errors.as_ref().map(|e| e.models[m].self_interaction).filter(|e| e.is_finite()),
                 })
                 .collect(),
             median_abs: report.summary.models[m].as_ref().map(|s| s.median_abs),
@@ -144,7 +144,7 @@ pub fn pz_groups(report: &BatchReport) -> Vec<PzGroup> {
         .zip(&report.summary.calculations)
         .map(|(c, counted)| PzGroup {
             calculation: c.name.clone(),
-            values: c.is_ok().then(|| c.outcome.ranking.totals.iter().map(|t| t.perdew_zunger).collect()),
+            values: c.outcome.ranking.totals.iter().map(|t| t.as_ref().ok().map(|t| t.perdew_zunger)).collect::<Option<_>>().filter(|_| c.is_ok()),
             left_out: counted.as_ref().map_or(0, |k| k.left_out_spin_orbitals()),
         })
         .collect()
@@ -169,9 +169,9 @@ pub fn cancellation_series(report: &BatchReport) -> Vec<CancellationSeries> {
                         calculation: calc.to_string(),
                         label: o.label.clone(),
                         hartree: o.hartree,
-                        hartree_error: o.errors.as_ref().map(|e| e.hartree),
+                        hartree_error: o.errors.as_ref().map(|e| e.hartree).filter(|e| e.is_finite()),
                         ratio: e.cancellation,
-                        ratio_error,
+                        ratio_error: ratio_error.filter(|e| e.is_finite()),
                     }
                 })
                 .collect(),

@@ -78,9 +78,10 @@ fn td_num(shown: &str, raw: f64) -> String {
     format!(r#"<td class="num" data-v="{raw}">{shown}</td>"#)
 }
 
-/// A value with its error bar below it (sorting by the value).
+/// A value with its error bar below it (sorting by the value; no bar to a value that is not
+/// finite, which shows as not a result).
 fn td_err(unit: EnergyUnit, value: f64, error: Option<f64>) -> String {
-    match error {
+    match error.filter(|_| value.is_finite()) {
         Some(e) => format!(r#"<td class="num" data-v="{value}">{}<span class="e">± {}</span></td>"#, num(unit, value), num(unit, e)),
         None => td_num(&num(unit, value), value),
     }
@@ -250,6 +251,7 @@ fn verdict_section(v: &Verdict, counted: u32, spin_orbitals: u32, unit: EnergyUn
                     Flag::TruncatedBox => "noticeable charge outside the box (a larger box helps)",
                     Flag::NormOff => "the norm is off the occupation by over 1 %",
                     Flag::KindSuspicious => "the values look like densities given as amplitudes, or the reverse",
+                    Flag::NotFinite => "some number is not finite (infinite or NaN) and no result (left out of the statistics and totals)",
                 };
                 format!("{}: {what}", f.as_str())
             })
@@ -372,7 +374,8 @@ fn pz_section(report: &BatchReport, unit: EnergyUnit) -> String {
             ];
             for m in 0..wf.models.len() {
                 row.push(match c.outcome.ranking.totals.get(m) {
-                    Some(t) if c.is_ok() => td_num(&num(unit, t.perdew_zunger), t.perdew_zunger),
+                    Some(Ok(t)) if c.is_ok() => td_num(&num(unit, t.perdew_zunger), t.perdew_zunger),
+                    Some(Err(_)) if c.is_ok() => r#"<td class="num failed">incomplete</td>"#.into(),
                     _ => r#"<td class="num failed">failed</td>"#.into(),
                 });
             }

@@ -56,6 +56,7 @@ fn calc(name: &str, tags: &[&str], orbitals: Vec<OrbitalReport>, failures: &[(&s
             ranking: Ranking::new(orbitals, 0),
             failures: failures.iter().map(|(s, e)| FileFailure { source: s.to_string(), error: e.to_string() }).collect(),
             localization: Vec::new(),
+            duplicates: Vec::new(),
         },
         density: None,
     }
@@ -343,6 +344,7 @@ fn the_date_is_the_callers_or_the_newest_input() {
         tags: Vec::new(),
         load: Default::default(),
         files: vec![grid.clone()],
+        duplicates: Vec::new(),
         orbitals: Default::default(),
         localize: Default::default(),
         density: None,
