@@ -22,7 +22,7 @@
 //! fractional one-electron density is −J, the ensemble result).
 
 use crate::basis::coulomb::{CoulombParams, self_energies_with};
-use crate::basis::{BasisConvention, BasisError, BasisSet, MolecularOrbitals, OrbitalSpin};
+use crate::basis::{Atom, BasisConvention, BasisError, BasisSet, MIN_NUCLEAR_DISTANCE, MolecularOrbitals, OrbitalSpin, distance};
 use crate::diagnostics::{
     Engine, GridOrbital, InputCheck, Kind, ModelEnergies, ModelErrors, OrbitalErrors, OrbitalReport, OrbitalSet, Spin, weighted_sum,
 };
@@ -132,11 +132,25 @@ fn occupied(orbitals: &MolecularOrbitals, stem: &str) -> Vec<Occupied> {
         .collect()
 }
 
+/// The centres of the atom-centred grid: every atom, except a ghost within
+/// [`MIN_NUCLEAR_DISTANCE`] of a nucleus or of a ghost kept before it (Becke's cells need
+/// distinct centres; the grid around the other centre covers the ghost's functions, and nuclei
+/// that close are refused on reading).
+fn grid_atoms(basis: &BasisSet) -> Vec<GridAtom> {
+    let mut kept: Vec<&Atom> = Vec::with_capacity(basis.atoms.len());
+    for a in &basis.atoms {
+        let near = |b: &&Atom| distance(a.position, b.position) < MIN_NUCLEAR_DISTANCE;
+        if a.ghost && (basis.atoms.iter().filter(|b| !b.ghost).any(|b| near(&b)) || kept.iter().any(near)) {
+            continue;
+        }
+        kept.push(a);
+    }
+    kept.iter().map(|a| GridAtom { position: a.position, atomic_number: a.atomic_number as i32 }).collect()
+}
+
 /// Grid points and weights of the molecule of `basis`.
 fn grid_of(basis: &BasisSet, level: GridLevel) -> MolecularGrid {
-    let atoms: Vec<GridAtom> =
-        basis.atoms.iter().map(|a| GridAtom { position: a.position, atomic_number: a.atomic_number as i32 }).collect();
-    MolecularGrid::new(&atoms, level)
+    MolecularGrid::new(&grid_atoms(basis), level)
 }
 
 /// Per orbital: ∫n, and each distinct functional's integral, on one grid.
