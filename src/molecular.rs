@@ -69,10 +69,14 @@ pub fn occupied_orbitals(path: &Path) -> Result<Vec<(String, Option<f64>)>, Basi
 }
 
 /// What a basis-set file says about occupations, for the failure of a file without occupied
-/// orbitals: `the file lists N orbital(s), none occupied: …`.
+/// orbitals: `the file lists N orbital(s), none occupied: …`, or why it lists none
+/// ([`crate::basis::why_no_orbitals`]).
 pub fn occupation_summary(path: &Path) -> Result<String, BasisError> {
     let orbitals = crate::basis::read_orbitals(path)?;
     let all = &orbitals.orbitals;
+    if all.is_empty() {
+        return crate::basis::why_no_orbitals(path);
+    }
     let given: Vec<f64> = all.iter().filter_map(|o| o.occupation).collect();
     let detail = if given.is_empty() {
         "the file gives no occupations (no `Occup=` lines)".to_string()

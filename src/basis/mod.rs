@@ -609,6 +609,19 @@ pub fn read_orbitals(path: &Path) -> Result<MolecularOrbitals, BasisError> {
     }
 }
 
+/// Why a basis-set file yields no orbitals at all, for its failure: `the file has no [MO]
+/// section`, `its [MO] section (line 40) lists no orbitals` or `the file lists no orbitals`.
+pub fn why_no_orbitals(path: &Path) -> Result<String, BasisError> {
+    Ok(match read_format(path)? {
+        AsWritten::Molden(file) => match file.mo_lines.as_slice() {
+            [] => "the file has no [MO] section (no orbital coefficients)".to_string(),
+            [line] => format!("its [MO] section (line {line}) lists no orbitals"),
+            lines => format!("its [MO] sections (lines {}) list no orbitals", lines.iter().map(usize::to_string).collect::<Vec<_>>().join(", ")),
+        },
+        AsWritten::Defined(..) => "the file lists no orbitals".to_string(),
+    })
+}
+
 /// A basis-set file read as its format is written: a molden file still to be interpreted, or a
 /// format that defines its conventions, already converted.
 enum AsWritten {
