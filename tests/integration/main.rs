@@ -7,6 +7,7 @@ mod batch;
 mod cli;
 mod common;
 mod cusp;
+mod faults_basis;
 mod functionals;
 mod html;
 mod inspect;
