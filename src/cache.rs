@@ -40,8 +40,10 @@ pub fn file_digest(path: &Path) -> std::io::Result<blake3::Hash> {
 /// History: 2 — exchange–correlation near cusps from the rebuilt orbital, sub-lattice spreads
 /// of plain functional sums, optional tail correction; 3 — sub-lattice spreads of the
 /// functionals outside the refined windows; 4 — sub-lattice J split with the whole grid's cusp
-/// models; 5 — molden conventions decided from the orbitals' orthonormality.
-const METHODS_REVISION: u32 = 5;
+/// models; 5 — molden conventions decided from the orbitals' orthonormality; 6 — floors under
+/// the basis path's error bars (rounding, the grid's norm error, the printed coefficients) and
+/// its `norm-off` and `under-resolved` flags.
+const METHODS_REVISION: u32 = 6;
 
 /// Everything besides the file's bytes that determines its orbitals' results.
 pub fn settings_fingerprint(load: &LoadParams, spin: Spin, models: &[Model], engine: &EngineParams) -> String {

@@ -679,7 +679,9 @@ pub(crate) fn weighted_sum(f: &dyn Functional, rho: &[f64], grad_sq: Option<&[f6
     })
 }
 
-fn check_finite(r: &OrbitalReport, models: &[Model]) -> Result<(), DiagnosticsError> {
+/// Every energy of `r` finite, J positive and LSDA exchange negative (shared with the exact
+/// path, [`crate::molecular`]).
+pub(crate) fn check_finite(r: &OrbitalReport, models: &[Model]) -> Result<(), DiagnosticsError> {
     let bad = |q: &str| Err(DiagnosticsError::NonFinite { quantity: q.to_string() });
     for (q, v) in [("norm", r.norm), ("Hartree self-repulsion", r.hartree), ("LSDA exchange", r.lsda_exchange)] {
         if !v.is_finite() {

@@ -13,7 +13,21 @@
 //! level is compared with the next finer). For smooth integrands the difference alone already
 //! overestimates the error about threefold; the factor two is for integrands with a kink on an
 //! orbital's nodal surfaces (B88 exchange, whose x = |∇n|/n^{4/3} diverges there), where the
-//! angular quadrature converges only as 1/n² and unevenly. Occupations and spins come from the file: in a
+//! angular quadrature converges only as 1/n² and unevenly. Two levels can agree to the last
+//! bit by accident, so every bar has a floor, relative to the value: for J the rounding of its
+//! integral sum (4 n_c² ε, n_c Cartesian components), for grid
+//! integrals the rounding of an N-point sum (N ε) plus the grid's relative error on the
+//! orbital's norm (the one grid integral whose exact value, cᵀSc, is known); both plus
+//! 2 |cᵀSc − 1|, what the printed coefficients leave open (J scales as the norm² squared).
+//!
+//! Checks, as on the grid path: a file is refused when an orbital's norm over the basis, an
+//! energy or an error bar is not a finite number, or J is not positive or LSDA exchange not
+//! negative (an empty orbital), naming the file, the orbital's line and label and the quantity
+//! (files whose orbitals are not orthonormal, or with nuclei closer than
+//! [`MIN_NUCLEAR_DISTANCE`], are refused on reading, see [`crate::basis`]); an orbital is flagged
+//! `norm-off` when the grid's ∫n is off f·cᵀSc by more than the grid path's 1 % (the grid
+//! misses part of the orbital, its functionals with it), and `under-resolved` when the grid
+//! part of some model's bar of δ exceeds the tolerance. Occupations and spins come from the file: in a
 //! restricted file an orbital with two electrons stands for two spin-orbitals of one electron,
 //! one with at most one electron for a single α spin-orbital, and one in between for two
 //! spin-orbitals sharing its electrons. Natural orbitals (fractional occupations f_i) of a
@@ -22,10 +36,11 @@
 //! fractional one-electron density is −J, the ensemble result).
 
 use crate::basis::coulomb::{CoulombParams, self_energies_with};
-use crate::basis::{BasisConvention, BasisError, BasisSet, MolecularOrbitals, OrbitalSpin};
+use crate::basis::{Atom, BasisConvention, BasisError, BasisSet, MIN_NUCLEAR_DISTANCE, MolecularOrbitals, OrbitalSpin, distance};
 use crate::diagnostics::{
-    Engine, GridOrbital, InputCheck, Kind, ModelEnergies, ModelErrors, OrbitalErrors, OrbitalReport, OrbitalSet, Spin, weighted_sum,
+    Engine, Flag, GridOrbital, InputCheck, Kind, ModelEnergies, ModelErrors, OrbitalErrors, OrbitalReport, OrbitalSet, Spin, weighted_sum,
 };
+use crate::trust::NORM_LIMIT;
 use crate::localize::{ChannelLocalization, LocalizeParams, boys, rotate};
 use crate::grid::{GridGeometry, Nucleus};
 use crate::molgrid::{GridAtom, GridLevel, MolecularGrid};
@@ -69,10 +84,14 @@ pub fn occupied_orbitals(path: &Path) -> Result<Vec<(String, Option<f64>)>, Basi
 }
 
 /// What a basis-set file says about occupations, for the failure of a file without occupied
-/// orbitals: `the file lists N orbital(s), none occupied: …`.
+/// orbitals: `the file lists N orbital(s), none occupied: …`, or why it lists none
+/// ([`crate::basis::why_no_orbitals`]).
 pub fn occupation_summary(path: &Path) -> Result<String, BasisError> {
     let orbitals = crate::basis::read_orbitals(path)?;
     let all = &orbitals.orbitals;
+    if all.is_empty() {
+        return crate::basis::why_no_orbitals(path);
+    }
     let given: Vec<f64> = all.iter().filter_map(|o| o.occupation).collect();
     let detail = if given.is_empty() {
         "the file gives no occupations (no `Occup=` lines)".to_string()
@@ -89,6 +108,13 @@ pub fn occupation_summary(path: &Path) -> Result<String, BasisError> {
 /// Error bar of a grid integral per unit of its change from the neighbouring level (module docs).
 const GRID_BAR_FACTOR: f64 = 2.0;
 
+/// Rounding floor of exact J per (Cartesian component)², relative to |J|: J sums n_c⁴/8
+/// distinct integrals, whose rounding errors add up like a random walk to √(n_c⁴/8) ε ≈
+/// 0.35 n_c² ε of the terms' magnitudes, and these can exceed |J| tenfold where an orbital's
+/// coefficients of both signs cancel: 4 n_c² ε. Water in cc-pVTZ (n_c = 65): 3.8e-12 relative,
+/// against at most 1.5e-13 found from libcint (shared reference set, lithium hydride; PySCF 2.14).
+const J_ROUNDING_PER_COMPONENT2: f64 = 4.0 * f64::EPSILON;
+
 /// Points per evaluation pass when sampling on a uniform grid (bounds the gradients the basis
 /// evaluator returns alongside the values: 32 bytes per point and orbital).
 const SAMPLING_CHUNK: usize = 1 << 20;
@@ -104,6 +130,8 @@ struct Occupied {
     spin: Spin,
     occupation: f64,
     label: String,
+    /// Line of the file where the orbital starts (`None` for orbitals formed here).
+    line: Option<usize>,
 }
 
 /// The occupied spin-orbitals of a file, with the occupation conventions of the module docs.
@@ -127,16 +155,31 @@ fn occupied(orbitals: &MolecularOrbitals, stem: &str) -> Vec<Occupied> {
                 spin,
                 occupation,
                 label: format!("{stem}#{}{suffix}", o.index),
+                line: Some(o.line),
             }
         })
         .collect()
 }
 
+/// The centres of the atom-centred grid: every atom, except a ghost within
+/// [`MIN_NUCLEAR_DISTANCE`] of a nucleus or of a ghost kept before it (Becke's cells need
+/// distinct centres; the grid around the other centre covers the ghost's functions, and nuclei
+/// that close are refused on reading).
+fn grid_atoms(basis: &BasisSet) -> Vec<GridAtom> {
+    let mut kept: Vec<&Atom> = Vec::with_capacity(basis.atoms.len());
+    for a in &basis.atoms {
+        let near = |b: &&Atom| distance(a.position, b.position) < MIN_NUCLEAR_DISTANCE;
+        if a.ghost && (basis.atoms.iter().filter(|b| !b.ghost).any(|b| near(&b)) || kept.iter().any(near)) {
+            continue;
+        }
+        kept.push(a);
+    }
+    kept.iter().map(|a| GridAtom { position: a.position, atomic_number: a.atomic_number as i32 }).collect()
+}
+
 /// Grid points and weights of the molecule of `basis`.
 fn grid_of(basis: &BasisSet, level: GridLevel) -> MolecularGrid {
-    let atoms: Vec<GridAtom> =
-        basis.atoms.iter().map(|a| GridAtom { position: a.position, atomic_number: a.atomic_number as i32 }).collect();
-    MolecularGrid::new(&atoms, level)
+    MolecularGrid::new(&grid_atoms(basis), level)
 }
 
 /// Per orbital: ∫n, and each distinct functional's integral, on one grid.
@@ -174,7 +217,7 @@ fn grid_integrals(
 pub fn analyse_molden(path: &Path, engine: &Engine, params: &MolecularParams, par: Parallelism) -> Result<Vec<OrbitalReport>, BasisError> {
     let (basis, orbitals, convention) = crate::basis::read_any(path)?;
     let occupied = occupied(&orbitals, &crate::input::stem(path));
-    let mut reports = analyse_occupied(path, &basis, &occupied, &convention, engine, params, par);
+    let mut reports = analyse_occupied(path, &basis, &occupied, &convention, engine, params, par)?;
     if orbitals.natural {
         reports.iter_mut().for_each(|r| r.set = OrbitalSet::Natural);
     }
@@ -249,16 +292,19 @@ pub fn analyse_molden_localized(
                 spin,
                 occupation: first.occupation,
                 label: format!("{stem}#loc{}{suffix}", k + 1),
+                line: None,
             });
         }
         channels.push(ChannelLocalization { spin, orbitals: channel.len(), result });
     }
-    let mut reports = analyse_occupied(path, &basis, &localized, &convention, engine, params, par);
+    let mut reports = analyse_occupied(path, &basis, &localized, &convention, engine, params, par)?;
     reports.iter_mut().for_each(|r| r.set = OrbitalSet::Localized);
     Ok((reports, channels))
 }
 
-/// Exact J and grid functionals of `occupied` orbitals of `basis` (reports name `path`).
+/// Exact J and grid functionals of `occupied` orbitals of `basis` (reports name `path`), checked
+/// like the grid path's results (see [`check_orbital`]). Errors name the file, the orbital and
+/// the quantity that is not a finite number.
 fn analyse_occupied(
     path: &Path,
     basis: &BasisSet,
@@ -267,7 +313,7 @@ fn analyse_occupied(
     engine: &Engine,
     params: &MolecularParams,
     par: Parallelism,
-) -> Vec<OrbitalReport> {
+) -> Result<Vec<OrbitalReport>, BasisError> {
     let input = input_check(convention);
 
     // Distinct functionals, LSDA exchange first (for α*).
@@ -285,7 +331,8 @@ fn analyse_occupied(
 
     let coefficients: Vec<&[f64]> = occupied.iter().map(|o| o.coefficients.as_slice()).collect();
     let coulomb = self_energies_with(basis, &coefficients, CoulombParams::default(), par);
-    let fine = grid_integrals(basis, occupied, &functionals, &grid_of(basis, params.grid), par);
+    let grid = grid_of(basis, params.grid);
+    let fine = grid_integrals(basis, occupied, &functionals, &grid, par);
     let error_bars = engine.params().trust.error_bars;
     // The neighbouring level for the error bars: the next coarser one, or for the coarsest the
     // next finer (an honest bar costs more there).
@@ -295,13 +342,28 @@ fn analyse_occupied(
         GridLevel::Coarse => GridLevel::Default,
     };
     let coarse = error_bars.then(|| grid_integrals(basis, occupied, &functionals, &grid_of(basis, neighbour), par));
+    let overlap = basis.overlap_matrix();
+    let j_rounding = J_ROUNDING_PER_COMPONENT2 * (basis.cartesian_count() as f64).powi(2);
+    let tolerance = engine.params().trust.tolerance;
 
     let mut reports = Vec::with_capacity(occupied.len());
     for (k, o) in occupied.iter().enumerate() {
         let f = o.occupation;
         let hartree = f * f * coulomb.hartree[k];
         let (norm, energies) = &fine[k];
-        let bar = |slot: usize| coarse.as_ref().map_or(0.0, |c| GRID_BAR_FACTOR * (c[k].1[slot] - energies[slot]).abs());
+        // The orbital's norm² over the basis (1 within the orthonormality accepted on reading),
+        // and the grid's relative error on f times it, the one grid integral known exactly.
+        let exact_norm = basis.norm_squared(&overlap, &o.coefficients);
+        let quadrature = (norm / (f * exact_norm) - 1.0).abs();
+        let floors = Floors {
+            // What rounding of the printed coefficients leaves open: J scales as the norm²
+            // squared, LSDA exchange as its 4/3 power, correlation more slowly.
+            coefficients: 2.0 * (exact_norm - 1.0).abs(),
+            hartree: j_rounding,
+            // Rounding of a sum of N terms of one sign: at most N ε of it (any order).
+            grid: grid.len() as f64 * f64::EPSILON + quadrature,
+        };
+        let level_bar = |slot: usize| coarse.as_ref().map(|c| GRID_BAR_FACTOR * (c[k].1[slot] - energies[slot]).abs());
         let models: Vec<ModelEnergies> = engine
             .models()
             .iter()
@@ -311,21 +373,33 @@ fn analyse_occupied(
                 ModelEnergies { exchange, correlation, self_interaction: hartree + exchange + correlation, cancellation: -exchange / hartree }
             })
             .collect();
-        let hartree_bar = f * f * coulomb.screening_bound[k];
+        let hartree_bar = f * f * coulomb.screening_bound[k] + floors.hartree(hartree);
+        let mut grid_part = 0.0f64;
         let errors = error_bars.then(|| OrbitalErrors {
             hartree: hartree_bar,
             models: engine
                 .models()
                 .iter()
-                .map(|m| {
-                    let x = bar(slot(&m.exchange));
-                    let c = m.correlation.as_ref().map_or(0.0, |c| bar(slot(c)));
+                .zip(&models)
+                .map(|(m, e)| {
+                    let x = level_bar(slot(&m.exchange)).unwrap_or(0.0) + floors.grid(e.exchange);
+                    let c = m.correlation.as_ref().map_or(0.0, |c| level_bar(slot(c)).unwrap_or(0.0) + floors.grid(e.correlation));
+                    grid_part = grid_part.max(x + c);
                     ModelErrors { exchange: x, correlation: c, self_interaction: hartree_bar + x + c }
                 })
                 .collect(),
         });
         let lsda_exchange = energies[0];
-        reports.push(OrbitalReport {
+        let mut flags = Vec::new();
+        // As on the grid path: the grid-dependent part of a bar of δ above the tolerance (J has
+        // none here), and a norm off by more than the grid path's limit.
+        if error_bars && grid_part > tolerance {
+            flags.push(Flag::UnderResolved);
+        }
+        if quadrature > NORM_LIMIT {
+            flags.push(Flag::NormOff);
+        }
+        let report = OrbitalReport {
             source: path.display().to_string(),
             label: o.label.clone(),
             spin: o.spin,
@@ -337,7 +411,7 @@ fn analyse_occupied(
             models,
             lost_charge: 0.0,
             errors,
-            flags: Vec::new(),
+            flags,
             cusp_correction: None,
             tail_correction: None,
             energy: o.energy,
@@ -345,9 +419,52 @@ fn analyse_occupied(
             input: Some(input.clone()),
             kind: Some(Kind::Amplitude),
             kind_origin: Some(crate::input::KindOrigin::computed()),
-        });
+        };
+        check_orbital(path, o, &report, engine, exact_norm)?;
+        reports.push(report);
     }
-    reports
+    Ok(reports)
+}
+
+/// Relative error-bar floors of one orbital's energies on the exact path, dimensionless.
+struct Floors {
+    /// From the printed coefficients: twice the orbital's |cᵀSc − 1|.
+    coefficients: f64,
+    /// Rounding of exact J ([`J_ROUNDING_PER_COMPONENT2`] n_c²).
+    hartree: f64,
+    /// The grid: rounding of its sum, and its relative error on the orbital's norm.
+    grid: f64,
+}
+
+impl Floors {
+    /// Floor of J (hartree).
+    fn hartree(&self, j: f64) -> f64 {
+        (self.hartree + self.coefficients) * j.abs()
+    }
+
+    /// Floor of a grid integral of value `e` (hartree).
+    fn grid(&self, e: f64) -> f64 {
+        (self.grid + self.coefficients) * e.abs()
+    }
+}
+
+/// The exact path's own checks of one orbital, as the grid path makes them
+/// ([`crate::diagnostics`]): its norm over the basis, every energy and every error bar finite,
+/// J positive and LSDA exchange negative. A failure refuses the file, naming the orbital (and
+/// its line) and the quantity.
+fn check_orbital(path: &Path, o: &Occupied, report: &OrbitalReport, engine: &Engine, exact_norm: f64) -> Result<(), BasisError> {
+    let fail = |what: String| BasisError::at(path, o.line, format!("orbital {}: {what}", o.label));
+    if !exact_norm.is_finite() {
+        return Err(fail(format!("its norm ⟨φ|φ⟩ over the basis is not a finite number ({exact_norm})")));
+    }
+    crate::diagnostics::check_finite(report, engine.models()).map_err(|e| fail(e.to_string()))?;
+    if let Some(e) = &report.errors {
+        let bars = std::iter::once(e.hartree).chain(e.models.iter().flat_map(|m| [m.exchange, m.correlation, m.self_interaction]));
+        if let Some(bar) = bars.into_iter().find(|b| !b.is_finite()) {
+            return Err(fail(format!("an error bar is not a finite number ({bar})")));
+        }
+    }
+    Ok(())
 }
 
 /// The occupied orbitals of a molden file sampled on a uniform grid of `spacing` bohr that
@@ -413,4 +530,58 @@ pub fn sample_molden(path: &Path, spacing: f64, margin: f64, par: Parallelism) -
         }
     }
     Ok(out)
+}
+
+#[cfg(test)]
+mod tests {
+    use super::*;
+    use crate::diagnostics::EngineParams;
+    use crate::xc::model::Model;
+
+    /// A valid file in `dir`: one hydrogen with one normalised s function, occupied.
+    fn hydrogen(dir: &Path) -> std::path::PathBuf {
+        let path = dir.join("h.molden");
+        let text = "[Molden Format]\n[Atoms] (AU)\nH 1 1 0.0 0.0 0.0\n[GTO]\n1 0\n s 1 1.00\n 1.0 1.0\n[MO]\n Occup= 1.0\n 1 1.0\n";
+        std::fs::write(&path, text).expect("write");
+        path
+    }
+
+    /// The hydrogen file analysed, then its report spoiled.
+    #[test]
+    fn non_finite_results_refuse_the_file_naming_the_orbital() {
+        let dir = tempfile::tempdir().expect("tempdir");
+        let path = hydrogen(dir.path());
+        let engine = Engine::new(vec![Model::from_name("lsda").expect("lsda")], EngineParams::default());
+        let params = MolecularParams { grid: GridLevel::Coarse, ..MolecularParams::default() };
+        let reports = analyse_molden(&path, &engine, &params, Parallelism::Sequential).expect("a valid file");
+        let o = Occupied { coefficients: vec![1.0], energy: None, spin: Spin::Alpha, occupation: 1.0, label: "h#1".into(), line: Some(8) };
+        check_orbital(&path, &o, &reports[0], &engine, 1.0).expect("finite");
+
+        let mut nan = reports[0].clone();
+        nan.models[0].exchange = f64::NAN;
+        let e = check_orbital(&path, &o, &nan, &engine, 1.0).expect_err("NaN exchange").to_string();
+        assert!(e.starts_with(&format!("{}:8: orbital h#1: ", path.display())) && e.contains("not a finite number"), "{e}");
+        let mut bar = reports[0].clone();
+        bar.errors.as_mut().expect("bars").models[0].correlation = f64::INFINITY;
+        let e = check_orbital(&path, &o, &bar, &engine, 1.0).expect_err("infinite bar").to_string();
+        assert!(e.contains("orbital h#1: an error bar is not a finite number (inf)"), "{e}");
+        let e = check_orbital(&path, &o, &reports[0], &engine, f64::NAN).expect_err("NaN norm").to_string();
+        assert!(e.contains("norm ⟨φ|φ⟩ over the basis is not a finite number"), "{e}");
+    }
+
+    /// Every bar of the valid file is above zero, the J bar at its rounding floor (no screening
+    /// skips anything for one s function).
+    #[test]
+    fn bars_have_floors() {
+        let dir = tempfile::tempdir().expect("tempdir");
+        let path = hydrogen(dir.path());
+        let engine = Engine::new(vec![Model::from_name("pbe").expect("pbe")], EngineParams::default());
+        let r = &analyse_molden(&path, &engine, &MolecularParams::default(), Parallelism::Sequential).expect("valid")[0];
+        let e = r.errors.as_ref().expect("bars");
+        // One Cartesian component: 4 ε |J| (the norm is exact for one normalised function, to rounding).
+        let floor = J_ROUNDING_PER_COMPONENT2 * r.hartree;
+        assert!(e.hartree >= floor && e.hartree < 2.0 * floor, "{} vs {floor}", e.hartree);
+        assert!(e.models[0].exchange > 0.0 && e.models[0].correlation > 0.0, "{e:?}");
+        assert!(r.flags.is_empty(), "{:?}", r.flags);
+    }
 }

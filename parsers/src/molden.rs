@@ -17,7 +17,10 @@
 //! - `[MO]` (may appear more than once; later ones append): per orbital the key lines
 //!   `Sym=`, `Ene=`, `Spin=`, `Occup=` (any order, each optional, unknown keys ignored), then
 //!   coefficient lines `INDEX VALUE` (a sign may follow the index without a space). A key line
-//!   after coefficient lines starts the next orbital.
+//!   after coefficient lines starts the next orbital. Coefficients left out are the caller's to
+//!   take as zero, with one exception decided here: a file that ends inside an orbital listing
+//!   coefficients 1…m in order, when every other orbital lists the same 1…K in order and m < K,
+//!   was cut off, and is an error at its last line.
 //! - `[Title]`: the following lines are kept as the title. Every other section
 //!   (`[Molden Format]`, `[Charge]`, `[GEOMETRIES]`, `[STO]` …) is skipped.
 //!
@@ -65,6 +68,8 @@ pub struct MoldenFile {
     pub flags: Vec<(MoldenFlag, usize)>,
     /// Orbitals of all `[MO]` sections, in file order.
     pub orbitals: Vec<MoldenOrbital>,
+    /// 1-based lines of the `[MO]` section headers, in file order (empty: the file has none).
+    pub mo_lines: Vec<usize>,
 }
 
 /// One line of `[Atoms]`.
@@ -413,7 +418,7 @@ struct Found {
     gto: Option<(usize, Vec<MoldenBasisAtom>)>,
     flags: Vec<(MoldenFlag, usize)>,
     orbitals: Vec<MoldenOrbital>,
-    any_mo: bool,
+    mo_lines: Vec<usize>,
 }
 
 impl<'a> Parser_<'a> {
@@ -474,7 +479,7 @@ impl<'a> Parser_<'a> {
                     found.gto = Some((no, self.gto()?));
                 }
                 Section::Mo => {
-                    found.any_mo = true;
+                    found.mo_lines.push(no);
                     self.orbitals(no, &mut found.orbitals)?;
                 }
                 Section::Title => {
@@ -518,6 +523,7 @@ impl<'a> Parser_<'a> {
             basis,
             flags: found.flags,
             orbitals: found.orbitals,
+            mo_lines: found.mo_lines,
         })
     }
 
@@ -733,6 +739,12 @@ impl<'a> Parser_<'a> {
                     None => self.err(last_line, MoldenErrorKind::UnexpectedEnd { expected }),
                 });
             }
+            if self.at >= self.lines.len() {
+                if let Some(expected) = cut_off(out, &done) {
+                    let line = done.coefficient_lines.last().copied().unwrap_or(last_line);
+                    return Err(self.err(line, MoldenErrorKind::UnexpectedEnd { expected }));
+                }
+            }
             out.push(done);
         }
         Ok(())
@@ -815,6 +827,31 @@ impl<'a> Parser_<'a> {
         f.finish("the coefficient")?;
         Ok((index, value, resolution))
     }
+}
+
+/// The coefficient count every orbital of `earlier` lists when each lists all of them in
+/// order (indices 1, 2, …, K: a writer that prints every coefficient), `None` otherwise.
+fn full_count(earlier: &[MoldenOrbital]) -> Option<usize> {
+    let k = earlier.first()?.coefficients.len();
+    let consecutive = |o: &MoldenOrbital| o.coefficients.iter().enumerate().all(|(i, &(index, _))| index == i + 1);
+    earlier.iter().all(|o| o.coefficients.len() == k && consecutive(o)).then_some(k)
+}
+
+/// What is missing when `last`, the orbital the file ends in, was cut off: a file may leave
+/// zero coefficients out, so a short orbital is a truncation only where the file's own
+/// indexing shows it. Every earlier orbital lists the same K coefficients 1…K in order, and
+/// `last` lists 1…m in order with m < K: the writer stopped (or the file was cut) inside it.
+fn cut_off(earlier: &[MoldenOrbital], last: &MoldenOrbital) -> Option<String> {
+    let k = full_count(earlier)?;
+    let m = last.coefficients.len();
+    let in_order = last.coefficients.iter().enumerate().all(|(i, &(index, _))| index == i + 1);
+    (in_order && m < k).then(|| {
+        format!(
+            "coefficients {} to {k} of the orbital starting on line {} (every other orbital of the file lists {k}; the file is cut off)",
+            m + 1,
+            last.line
+        )
+    })
 }
 
 /// Molden errors name the file and line.

@@ -74,6 +74,8 @@ pub struct WfxFile {
     pub nuclear_charges: Vec<f64>,
     /// `<Nuclear Cartesian Coordinates>`, one triple per nucleus (bohr by the format).
     pub coordinates: Vec<[f64; 3]>,
+    /// 1-based line of the `<Nuclear Cartesian Coordinates>` tag.
+    pub coordinates_line: Option<usize>,
     /// `<Primitive Centers>`: 1-based nucleus of each primitive.
     pub centres: Vec<i64>,
     /// `<Primitive Types>`: AIMPAC type number of each primitive (as in wfn files).
@@ -364,6 +366,7 @@ impl<'a> Sections<'a> {
         let flat = self.reals("Nuclear Cartesian Coordinates")?;
         self.count_check("Nuclear Cartesian Coordinates", flat.len(), 3 * n_nuc, "Number of Nuclei, times 3")?;
         let coordinates = flat.chunks_exact(3).map(|c| [c[0], c[1], c[2]]).collect();
+        let coordinates_line = self.find("Nuclear Cartesian Coordinates")?.map(|e| e.open);
 
         let centres = self.ints("Primitive Centers")?;
         self.count_check("Primitive Centers", centres.len(), n_prim, "Number of Primitives")?;
@@ -453,6 +456,7 @@ impl<'a> Sections<'a> {
             atomic_numbers,
             nuclear_charges,
             coordinates,
+            coordinates_line,
             centres,
             types,
             exponents,

@@ -210,7 +210,8 @@ pub fn from_wfn(w: &WfnFile) -> Result<(BasisSet, MolecularOrbitals, Provenance)
             .ok_or_else(|| {
                 BasisError::at(&w.source, Some(nucleus.line), format!("expected an element symbol or a charge from 0 to 200, found {}", nucleus.label))
             })?;
-        atoms.push(Atom { label: nucleus.label.clone(), atomic_number: z, position: nucleus.position });
+        let ghost = z == 0 || nucleus.charge.abs() < 1e-6;
+        atoms.push(Atom { label: nucleus.label.clone(), atomic_number: z, position: nucleus.position, ghost, line: Some(nucleus.line) });
     }
     let charges = w.nuclei.iter().map(|n| n.charge).collect();
     let line = w.nuclei.last().map_or(Some(2), |n| Some(n.line + 1));
@@ -254,7 +255,8 @@ pub fn from_wfx(w: &WfxFile) -> Result<(BasisSet, MolecularOrbitals, Provenance)
             BasisError::at(&w.source, None, format!("expected atomic numbers from 0 to 200, found {z}"))
         })?;
         let label = w.nuclear_names.get(k).cloned().unwrap_or_else(|| crate::inspect::symbol(z as i32).to_string());
-        atoms.push(Atom { label, atomic_number: z, position });
+        let ghost = z == 0 || w.nuclear_charges.get(k).is_some_and(|q| q.abs() < 1e-6);
+        atoms.push(Atom { label, atomic_number: z, position, ghost, line: w.coordinates_line });
     }
     let p = Primitives {
         path: &w.source,

@@ -22,7 +22,8 @@
 //! convention that can matter for the file's shells is tried; the one with the smallest
 //! max |CᵀSC − I| is taken, preferring the hinted (then the format's own) convention among those
 //! that fit equally well; a file that no convention makes orthonormal within
-//! [`ORTHONORMALITY_TOLERANCE`] (or what its printed digits allow) is refused. Rescaling each
+//! [`ORTHONORMALITY_TOLERANCE`] (or what its printed digits allow, at most
+//! [`MAX_ORTHONORMALITY_TOLERANCE`]) is refused, naming the worst orbital or pair. Rescaling each
 //! orbital to unit norm would hide a wrong basis, so it is never done.
 
 use std::fmt;
@@ -37,6 +38,12 @@ use super::{BasisError, BasisSet};
 /// Largest accepted max |CᵀSC − I| of the occupied orbitals when the printed digits allow
 /// better: converged orbitals printed with ten decimals are orthonormal to about 1e-9.
 pub const ORTHONORMALITY_TOLERANCE: f64 = 1e-6;
+
+/// Largest accepted max |CᵀSC − I| however few digits a file prints: a wrong reading of the
+/// real-world files is off by 6e-3 at the least (ammonia from ORCA and Psi4 read as the format
+/// defines it: a 1s norm of 0.994), sixty times more. Within it a norm moves J by at most 2e-4
+/// relative, which the error bars of the exact path carry (see `molecular`).
+pub const MAX_ORTHONORMALITY_TOLERANCE: f64 = 1e-4;
 
 /// What contraction coefficients multiply.
 #[derive(Debug, Clone, Copy, PartialEq, Eq, Hash)]
@@ -147,12 +154,33 @@ pub struct Orthonormality {
     pub digit_bound: f64,
     /// Orbitals checked.
     pub orbitals: usize,
+    /// The pair with the largest deviation (positions in the orbital list; equal for a norm)
+    /// and its ⟨φ_i|φ_j⟩; `None` when no orbital was checked.
+    pub worst: Option<(usize, usize, f64)>,
 }
 
 impl Orthonormality {
-    /// The accepted deviation: [`ORTHONORMALITY_TOLERANCE`], or the digit bound where larger.
+    /// The accepted deviation: [`ORTHONORMALITY_TOLERANCE`], or the digit bound where larger, at
+    /// most [`MAX_ORTHONORMALITY_TOLERANCE`].
     pub fn tolerance(&self) -> f64 {
-        ORTHONORMALITY_TOLERANCE.max(self.digit_bound)
+        ORTHONORMALITY_TOLERANCE.max(self.digit_bound).min(MAX_ORTHONORMALITY_TOLERANCE)
+    }
+
+    /// The worst pair in words, for errors: `orbital 1 (line 83): ⟨φ|φ⟩ = 0` or `orbitals 1 and
+    /// 3 (lines 83 and 145): ⟨φ_i|φ_j⟩ = 3.1e-1` (orbitals named by their number within their
+    /// spin channel and their spin in unrestricted files).
+    pub fn worst_pair(&self, orbitals: &MolecularOrbitals) -> Option<String> {
+        let (i, j, value) = self.worst?;
+        let (a, b) = (orbitals.orbitals.get(i)?, orbitals.orbitals.get(j)?);
+        let name = |o: &super::Orbital| match o.spin {
+            OrbitalSpin::Restricted => o.index.to_string(),
+            spin => format!("{} {}", spin.name(), o.index),
+        };
+        Some(if i == j {
+            format!("orbital {} (line {}): ⟨φ|φ⟩ = {value:.3e}, expected 1", name(a), a.line)
+        } else {
+            format!("orbitals {} and {} (lines {} and {}): ⟨φ_i|φ_j⟩ = {value:.3e}, expected 0", name(b), name(a), b.line, a.line)
+        })
     }
 
     /// Whether the deviation is within [`Orthonormality::tolerance`] (false for NaN).
@@ -205,10 +233,11 @@ pub fn checked(
             path,
             None,
             format!(
-                "expected orthonormal occupied orbitals (max |CᵀSC − I| ≤ {:.0e}), found {:.2e}: the basis or the \
+                "expected orthonormal occupied orbitals (max |CᵀSC − I| ≤ {:.0e}), found {}{}: the basis or the \
                  coefficients are not what the file's writer used",
                 check.tolerance(),
-                check.max_deviation
+                deviation(check.max_deviation),
+                check.worst_pair(&orbitals).map_or(String::new(), |w| format!(" ({w})"))
             ),
         ));
     }
@@ -240,6 +269,7 @@ fn orthonormality_of(basis: &BasisSet, orbitals: &MolecularOrbitals, resolution:
         .collect();
     let l1: Vec<f64> = sc.iter().map(|v| v.iter().map(|x| x.abs()).sum()).collect();
     let mut max_deviation = 0.0f64;
+    let mut worst = None;
     let mut digit_bound = 0.0f64;
     for (a, &i) in chosen.iter().enumerate() {
         for (b, &j) in chosen.iter().enumerate().take(a + 1) {
@@ -250,14 +280,22 @@ fn orthonormality_of(basis: &BasisSet, orbitals: &MolecularOrbitals, resolution:
             let m: f64 = oi.coefficients.iter().zip(&sc[b]).map(|(x, y)| x * y).sum();
             let want = if a == b { 1.0 } else { 0.0 };
             let dev = (m - want).abs();
-            // NaN must not pass as "no deviation".
-            max_deviation = if dev.is_nan() { f64::NAN } else { max_deviation.max(dev) };
+            // NaN must not pass as "no deviation"; the first NaN stays the worst.
+            if !max_deviation.is_nan() && (dev.is_nan() || dev > max_deviation || worst.is_none()) {
+                max_deviation = dev;
+                worst = Some((i, j, m));
+            }
             let ri = resolution.get(i).copied().unwrap_or(0.0);
             let rj = resolution.get(j).copied().unwrap_or(0.0);
             digit_bound = digit_bound.max(ri * l1[b] + rj * l1[a]);
         }
     }
-    Orthonormality { max_deviation, digit_bound, orbitals: chosen.len() }
+    Orthonormality { max_deviation, digit_bound, orbitals: chosen.len(), worst }
+}
+
+/// A deviation for messages: `3.10e-2`, or `not a number`.
+fn deviation(d: f64) -> String {
+    if d.is_finite() { format!("{d:.2e}") } else if d.is_nan() { "not a number".to_string() } else { "infinite".to_string() }
 }
 
 fn channel(spin: OrbitalSpin) -> u8 {
@@ -330,15 +368,18 @@ pub fn detect(m: &MoldenFile) -> Result<(BasisSet, MolecularOrbitals, BasisConve
         .filter(|d| !d.is_nan())
         .fold(f64::INFINITY, f64::min);
     if !tried.iter().any(|t| t.3.holds()) {
-        let shown = if best.is_finite() { format!("{best:.2e}") } else { "not a number".to_string() };
+        // The closest reading's worst pair says where to look.
+        let closest = tried.iter().find(|t| t.3.max_deviation == best).or(tried.first());
+        let worst = closest.and_then(|t| t.3.worst_pair(&t.2)).map_or(String::new(), |w| format!("; {w}"));
         return Err(BasisError::at(
             &m.source,
             None,
             format!(
                 "expected orthonormal occupied orbitals (max |CᵀSC − I| ≤ {:.0e}) under some molden convention, \
-                 found at best {shown} over {} conventions tried: the basis or the coefficients are not what the file's \
-                 writer used",
+                 found at best {} over {} conventions tried{worst}: the basis or the coefficients are not what the \
+                 file's writer used",
                 ORTHONORMALITY_TOLERANCE,
+                deviation(if tried.iter().all(|t| t.3.max_deviation.is_nan()) { f64::NAN } else { best }),
                 tried.len()
             ),
         ));
@@ -474,6 +515,18 @@ mod tests {
         }
     }
 
+    /// Printed digits widen the accepted deviation up to a cap, never beyond it.
+    #[test]
+    fn the_digits_allowance_is_capped() {
+        let with = |digit_bound: f64| Orthonormality { max_deviation: 0.0, digit_bound, orbitals: 1, worst: None }.tolerance();
+        assert_eq!(with(0.0), ORTHONORMALITY_TOLERANCE);
+        assert_eq!(with(3e-5), 3e-5);
+        assert_eq!(with(0.1), MAX_ORTHONORMALITY_TOLERANCE);
+        assert_eq!(with(f64::INFINITY), MAX_ORTHONORMALITY_TOLERANCE);
+        let nan = Orthonormality { max_deviation: f64::NAN, digit_bound: f64::INFINITY, orbitals: 1, worst: None };
+        assert!(!nan.holds());
+    }
+
     /// Orbitals that are not orthonormal under any convention are refused, with the deviation.
     #[test]
     fn a_wrong_basis_is_refused() {
@@ -483,5 +536,7 @@ mod tests {
         let e = detect(&m).expect_err("no convention fits").to_string();
         assert!(e.contains("expected orthonormal occupied orbitals"), "{e}");
         assert!(e.contains("spherical.molden"), "{e}");
+        // The worst pair named, with the line its orbital starts on.
+        assert!(e.contains("(line 79)") || e.contains("(lines "), "{e}");
     }
 }

@@ -140,7 +140,7 @@ pub fn from_fchk(f: &FchkFile) -> Result<(BasisSet, MolecularOrbitals, Provenanc
 
     // Atoms.
     let (numbers, numbers_line) = ints("Atomic numbers")?;
-    let (coords, _) = reals("Current cartesian coordinates")?;
+    let (coords, coords_line) = reals("Current cartesian coordinates")?;
     length("Current cartesian coordinates", coords.len(), 3 * numbers.len(), "three per atom")?;
     let nuclear_charges: Vec<f64> = match f.reals("Nuclear charges")? {
         Some((q, _)) => {
@@ -155,7 +155,9 @@ pub fn from_fchk(f: &FchkFile) -> Result<(BasisSet, MolecularOrbitals, Provenanc
             BasisError::at(path, Some(numbers_line), format!("expected atomic numbers from 0 to 200, found {z}"))
         })?;
         let position = [coords[3 * k], coords[3 * k + 1], coords[3 * k + 2]];
-        atoms.push(Atom { label: crate::inspect::symbol(z as i32).to_string(), atomic_number: z, position });
+        let ghost = z == 0 || nuclear_charges[k].abs() < 1e-6;
+        let label = crate::inspect::symbol(z as i32).to_string();
+        atoms.push(Atom { label, atomic_number: z, position, ghost, line: Some(coords_line) });
     }
     let ecp = f.has_ecp_sections() || numbers.iter().zip(&nuclear_charges).any(|(&z, &q)| valence_charge(z as f64, q));
 

@@ -283,6 +283,21 @@ pub struct Atom {
     pub atomic_number: u32,
     /// Position, bohr.
     pub position: [f64; 3],
+    /// Whether it is a ghost: a centre of basis functions without a nucleus (atomic number 0,
+    /// or a nuclear charge of 0 as written).
+    pub ghost: bool,
+    /// 1-based line of the file that gives its position, where the format has one.
+    pub line: Option<usize>,
+}
+
+/// Closest two nuclei may be, bohr: fourteen times shorter than the shortest bond there is (H₂,
+/// 1.4 bohr; common practice), so two nuclei closer than this are one atom written twice or a
+/// wrong geometry. Ghost atoms (no nucleus) may sit anywhere, coinciding ones included.
+pub const MIN_NUCLEAR_DISTANCE: f64 = 0.1;
+
+/// Distance between two points, bohr.
+pub(crate) fn distance(a: [f64; 3], b: [f64; 3]) -> f64 {
+    ((a[0] - b[0]).powi(2) + (a[1] - b[1]).powi(2) + (a[2] - b[2]).powi(2)).sqrt()
 }
 
 /// A basis set: atoms and shells in the file's order. Function μ of the set is function
@@ -406,8 +421,11 @@ impl BasisSet {
                 label: a.label.clone(),
                 atomic_number: z,
                 position: a.position.map(|x| x * scale),
+                ghost: z == 0,
+                line: Some(a.line),
             });
         }
+        check_nuclei(path, &atoms)?;
         let spherical = spherical_flags(m)?;
         let mut shells = Vec::new();
         for (k, block) in m.basis.iter().enumerate() {
@@ -536,6 +554,39 @@ impl BasisSet {
     }
 }
 
+/// Refuses nuclei closer than [`MIN_NUCLEAR_DISTANCE`] (ghost atoms are no nuclei), naming both
+/// atoms and their lines; the error is at the later atom's line (or its section's).
+pub(crate) fn check_nuclei(path: &Path, atoms: &[Atom]) -> Result<(), BasisError> {
+    for j in 0..atoms.len() {
+        for i in 0..j {
+            let d = distance(atoms[i].position, atoms[j].position);
+            if !atoms[i].ghost && !atoms[j].ghost && (d.is_nan() || d < MIN_NUCLEAR_DISTANCE) {
+                // Each atom's own line where the format gives one (not one section's for all).
+                let own_lines = atoms[i].line != atoms[j].line;
+                let name = |k: usize| {
+                    let a = &atoms[k];
+                    match a.line.filter(|_| own_lines) {
+                        Some(line) => format!("atom {} ({}, line {line})", k + 1, a.label),
+                        None => format!("atom {} ({})", k + 1, a.label),
+                    }
+                };
+                return Err(BasisError::at(
+                    path,
+                    atoms[j].line,
+                    format!(
+                        "expected nuclei at least {MIN_NUCLEAR_DISTANCE} bohr apart, found {} and {} {} (the same atom \
+                         twice, or a wrong geometry)",
+                        name(i),
+                        name(j),
+                        if d == 0.0 { "at the same position".to_string() } else { format!("{d:.3e} bohr apart") }
+                    ),
+                ));
+            }
+        }
+    }
+    Ok(())
+}
+
 /// Reads any file with its own Gaussian basis (molden, fchk, wfn or wfx, told apart by content,
 /// plain or gzip) and builds its basis set and orbitals, with how the file was read and the
 /// evidence: the occupied orbitals must be orthonormal over the basis as read (see
@@ -556,6 +607,19 @@ pub fn read_orbitals(path: &Path) -> Result<MolecularOrbitals, BasisError> {
         AsWritten::Molden(file) => MolecularOrbitals::from_molden(&file, &BasisSet::from_molden(&file)?),
         AsWritten::Defined(_, _, orbitals, _) => Ok(orbitals),
     }
+}
+
+/// Why a basis-set file yields no orbitals at all, for its failure: `the file has no [MO]
+/// section`, `its [MO] section (line 40) lists no orbitals` or `the file lists no orbitals`.
+pub fn why_no_orbitals(path: &Path) -> Result<String, BasisError> {
+    Ok(match read_format(path)? {
+        AsWritten::Molden(file) => match file.mo_lines.as_slice() {
+            [] => "the file has no [MO] section (no orbital coefficients)".to_string(),
+            [line] => format!("its [MO] section (line {line}) lists no orbitals"),
+            lines => format!("its [MO] sections (lines {}) list no orbitals", lines.iter().map(usize::to_string).collect::<Vec<_>>().join(", ")),
+        },
+        AsWritten::Defined(..) => "the file lists no orbitals".to_string(),
+    })
 }
 
 /// A basis-set file read as its format is written: a molden file still to be interpreted, or a
@@ -581,6 +645,7 @@ fn read_format(path: &Path) -> Result<AsWritten, BasisError> {
             ));
         }
     };
+    check_nuclei(path, &basis.atoms)?;
     Ok(AsWritten::Defined(name, basis, orbitals, provenance))
 }
 

@@ -87,7 +87,7 @@ const FLOOR_GRADIENT: f64 = 3e-3;
 /// Lost charge, as a fraction of the occupation, above which the box counts as truncated.
 const LOST_CHARGE_LIMIT: f64 = 1e-3;
 /// Relative norm error above which the norm counts as off.
-const NORM_LIMIT: f64 = 1e-2;
+pub(crate) const NORM_LIMIT: f64 = 1e-2;
 
 /// Signed estimates of one source of error: J, and each model's exchange and correlation.
 #[derive(Clone, Debug, Default, PartialEq)]

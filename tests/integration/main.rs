@@ -10,6 +10,7 @@ mod cusp;
 mod faults_io;
 mod faults_stats;
 mod faults_results;
+mod faults_basis;
 mod functionals;
 mod html;
 mod inspect;

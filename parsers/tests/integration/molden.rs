@@ -359,3 +359,76 @@ fn structural_errors() {
         "{missing}"
     );
 }
+
+/// Three orbitals over three s functions, every coefficient written in order, as a writer that
+/// prints all of them does; `last` replaces the third orbital's coefficient lines.
+fn three_orbitals(last: &str) -> String {
+    format!(
+        "[Atoms] AU\nH 1 1 0.0 0.0 0.0\n[GTO]\n1 0\n s 1 1.0\n 1.0 1.0\n s 1 1.0\n 0.3 1.0\n s 1 1.0\n 0.1 1.0\n\
+         [MO]\n Occup= 1.0\n 1 0.5\n 2 0.25\n 3 0.125\n Occup= 0.0\n 1 0.1\n 2 0.2\n 3 0.3\n Occup= 0.0\n{last}"
+    )
+}
+
+/// A file cut off inside its last orbital is an error at the last line read, naming the orbital
+/// and what is missing, whether or not the cut leaves a final line end.
+#[test]
+fn a_file_cut_inside_an_orbital_is_refused() {
+    let want = "synthetic.molden:22: unexpected end of file: expected coefficients 3 to 3 of the orbital starting on line 20 \
+                (every other orbital of the file lists 3; the file is cut off)";
+    for last in [" 1 0.7\n 2 0.8\n", " 1 0.7\n 2 0.8", " 1 0.7\n 2 0.8\n\n"] {
+        let e = parse(&three_orbitals(last)).expect_err("cut off").to_string();
+        assert_eq!(e, want, "{last:?}");
+    }
+    // The whole orbital present: no error.
+    let m = parse(&three_orbitals(" 1 0.7\n 2 0.8\n 3 0.9\n")).expect("complete");
+    assert_eq!(m.orbitals.len(), 3);
+    assert_eq!(m.mo_lines, [11]);
+}
+
+/// A short last orbital is not a truncation where the file's indexing allows left-out zeros: it
+/// skips an index, the other orbitals do not all list every coefficient, or a section follows.
+#[test]
+fn left_out_zero_coefficients_are_not_a_truncation() {
+    for last in [" 1 0.7\n 3 0.8\n", " 2 0.7\n", " 1 0.7\n 2 0.8\n[Title]\n end of data\n"] {
+        let m = parse(&three_orbitals(last)).unwrap_or_else(|e| panic!("{last:?}: {e}"));
+        assert_eq!(m.orbitals.len(), 3, "{last:?}");
+    }
+    // The second orbital lists only its non-zero coefficients: the writer leaves zeros out.
+    let sparse = three_orbitals(" 1 0.7\n 2 0.8\n").replace(" 1 0.1\n 2 0.2\n 3 0.3\n", " 1 0.1\n 3 0.3\n");
+    let m = parse(&sparse).unwrap_or_else(|e| panic!("{e}"));
+    assert_eq!(m.orbitals[2].coefficients, [(1, 0.7), (2, 0.8)]);
+    // A lone orbital gives no context to judge by.
+    let lone = "[Atoms] AU\nH 1 1 0.0 0.0 0.0\n[GTO]\n1 0\n s 1 1.0\n 1.0 1.0\n[MO]\n Occup= 1.0\n 1 1.0\n";
+    assert_eq!(parse(lone).expect("lone orbital").orbitals.len(), 1);
+}
+
+// reference: PySCF 2.14 molden writer, shared reference set (water/orbitals.molden, which lists
+// all 58 coefficients of every orbital)
+/// The shared water file cut at every line inside its last orbital is refused at the cut; cut
+/// right after a complete orbital it reads (with the orbitals before the cut).
+#[test]
+fn the_shared_water_file_cut_inside_an_orbital() {
+    let Some(files) = shared_molden_files() else { return };
+    let Some(path) = files.iter().find(|p| p.parent().is_some_and(|d| d.ends_with("water"))) else { return };
+    let text = std::fs::read_to_string(path).expect("readable");
+    let lines: Vec<&str> = text.lines().collect();
+    let whole = parse(&text).expect("whole file");
+    let last = whole.orbitals.last().expect("orbitals");
+    let first_coefficient = last.coefficient_lines[0];
+    for cut in first_coefficient..lines.len() {
+        let e = parse(&lines[..cut].join("\n")).expect_err("cut inside the last orbital").to_string();
+        let want = format!("synthetic.molden:{cut}: unexpected end of file: expected coefficients {} to 58 of the orbital starting on line {}", cut - first_coefficient + 2, last.line);
+        assert!(e.starts_with(&want), "cut after line {cut}: {e}");
+    }
+    let before = parse(&lines[..last.line - 1].join("\n")).expect("cut between orbitals");
+    assert_eq!(before.orbitals.len(), whole.orbitals.len() - 1);
+}
+
+/// `mo_lines` tells a file without orbitals from one with an empty `[MO]` section.
+#[test]
+fn mo_sections_are_recorded() {
+    let base = "[Atoms] AU\nH 1 1 0.0 0.0 0.0\n[GTO]\n1 0\n s 1 1.0\n 1.0 1.0\n";
+    assert!(parse(base).expect("no [MO]").mo_lines.is_empty());
+    let empty = parse(&format!("{base}[MO]\n")).expect("empty [MO]");
+    assert_eq!((empty.mo_lines.as_slice(), empty.orbitals.len()), (&[7][..], 0));
+}
