@@ -390,7 +390,8 @@ fn prepare_solvers(jobs: &[FileJob], engine: &Engine) {
     }
     if grids.len() <= engine.params().solver_cache {
         for g in &grids {
-            engine.solver(g, Parallelism::Rayon);
+            // A kernel that does not fit fails its files later, with their names.
+            let _ = engine.solver(g, Parallelism::Rayon);
         }
     }
 }
