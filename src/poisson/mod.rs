@@ -39,7 +39,7 @@ use crate::grid::GridGeometry;
 use crate::memory::OutOfMemory;
 use crate::par::Parallelism;
 use fft3::PaddedFft3;
-use ndarray::{Array3, ArrayView3};
+use ndarray::{Array3, ArrayView3, Axis};
 use rustfft::num_complex::Complex64;
 use std::ops::Range;
 use thiserror::Error;
@@ -157,16 +157,15 @@ impl HartreeSolver {
     /// (`0 < k2 < m2/2`).
     fn block_sum(&self, k2s: Range<usize>, a: &ArrayView3<Complex64>, b: &ArrayView3<Complex64>) -> f64 {
         let m = self.fft.shape();
+        let kernel = self.kernel.as_slice().expect("the kernel is contiguous");
+        let h2 = m[2] / 2 + 1;
         let mut s = 0.0;
         for (p, k2) in k2s.enumerate() {
             let weight = if k2 == 0 || 2 * k2 == m[2] { 1.0 } else { 2.0 };
-            let mut plane = 0.0;
-            for k0 in 0..m[0] {
-                for k1 in 0..m[1] {
-                    let (x, y) = (a[[p, k0, k1]], b[[p, k0, k1]]);
-                    plane += self.kernel[[k0, k1, k2]] * (x.re * y.re + x.im * y.im);
-                }
-            }
+            let (pa, pb) = (a.index_axis(Axis(0), p), b.index_axis(Axis(0), p));
+            let (pa, pb) = (pa.as_slice().expect("planes are contiguous"), pb.as_slice().expect("planes are contiguous"));
+            // Plane points in (k0, k1) order; the kernel's value of each is h2 apart.
+            let plane: f64 = pa.iter().zip(pb).zip(kernel[k2..].iter().step_by(h2)).map(|((x, y), k)| k * (x.re * y.re + x.im * y.im)).sum();
             s += weight * plane;
         }
         s
