@@ -19,7 +19,7 @@ use crate::gradient::{GradientParams, gradient_squared};
 use crate::grid::{GridGeometry, Nucleus};
 use crate::input::KindOrigin;
 use crate::par::Parallelism;
-use crate::memory::OutOfMemory;
+use crate::memory::{MemoryBudget, OutOfMemory};
 use crate::poisson::{HartreeParams, HartreeSolver, PoissonError};
 use crate::xc::slater::XAlpha;
 use crate::xc::{DENSITY_FLOOR, Family, Functional, Model, Part, XcPoint};
@@ -371,6 +371,8 @@ pub struct Engine {
     models: Vec<Model>,
     params: EngineParams,
     solvers: Mutex<Vec<(GridGeometry, SolverCell)>>,
+    /// Not part of the settings: it changes which files run together, never a number.
+    memory: Option<MemoryBudget>,
 }
 
 /// A solver built at most once, by whichever thread asks first.
@@ -379,7 +381,7 @@ type SolverCell = Arc<Mutex<Option<Arc<HartreeSolver>>>>;
 impl Engine {
     /// An engine evaluating `models` in this order.
     pub fn new(models: Vec<Model>, params: EngineParams) -> Self {
-        Engine { models, params, solvers: Mutex::new(Vec::new()) }
+        Engine { models, params, solvers: Mutex::new(Vec::new()), memory: None }
     }
 
     /// The models, in report order.
@@ -417,6 +419,28 @@ impl Engine {
         let solver = Arc::new(HartreeSolver::new(geometry, &self.params.hartree, par)?);
         *slot = Some(solver.clone());
         Ok(solver)
+    }
+
+    /// The grids whose Coulomb solvers are cached (built or being built).
+    pub fn cached_solvers(&self) -> Vec<GridGeometry> {
+        self.solvers.lock().unwrap_or_else(|e| e.into_inner()).iter().map(|(g, _)| g.clone()).collect()
+    }
+
+    /// Drops the cached solvers of the grids `keep` rejects (their memory goes once no
+    /// calculation holds them any more).
+    pub fn release_solvers(&self, keep: impl Fn(&GridGeometry) -> bool) {
+        self.solvers.lock().unwrap_or_else(|e| e.into_inner()).retain(|(g, _)| keep(g));
+    }
+
+    /// This engine with a memory budget for the files run through it ([`crate::calculation`]).
+    pub fn with_memory_budget(mut self, budget: Option<MemoryBudget>) -> Self {
+        self.memory = budget;
+        self
+    }
+
+    /// The memory budget of the files run through this engine, if any.
+    pub fn memory_budget(&self) -> Option<&MemoryBudget> {
+        self.memory.as_ref()
     }
 
     /// Grid sums of one orbital: norm, J and each model's energies, with the cusp models

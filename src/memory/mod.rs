@@ -1,8 +1,20 @@
-//! Memory: big buffers that fail with an error instead of aborting the process.
+//! Memory: what a file will need, what the machine or job allows, and big buffers that fail
+//! with an error instead of aborting the process.
 //!
-//! [`try_filled`] and [`try_collect`]: fallible allocation for grid-sized buffers, so that a
-//! grid too large for the memory at hand fails its file rather than the process (under an
-//! address-space limit; a cgroup limit kills on touch).
+//! - [`estimate`]: the peak memory of one file from its header (grid points times the buffers
+//!   the engine holds at once), checked against measured peaks (see the README's *Memory*);
+//! - [`ledger`]: which files may run at once under the budget;
+//! - [`limits`]: the budget's default from the job's limit (cgroup, SLURM, address-space limit)
+//!   or the machine's memory, with a safety margin;
+//! - [`try_filled`] and [`try_collect`]: fallible allocation for grid-sized buffers, so that an
+//!   estimate that is off fails the file rather than the process (under an address-space limit;
+//!   a cgroup limit kills on touch, which only the estimate can prevent).
+
+pub mod estimate;
+pub mod ledger;
+pub mod limits;
+
+pub use limits::{BudgetSource, MemoryBudget};
 
 use std::fmt;
 use thiserror::Error;
@@ -41,6 +53,31 @@ impl fmt::Display for Bytes {
     }
 }
 
+/// A size given by a person: a number with a binary unit, `K`, `M`, `G` or `T` (powers of
+/// 1024, as in SLURM and `ulimit`; any case, `B` or `iB` may follow), e.g. `8G`, `500M`,
+/// `1.5GiB`. A bare number is refused: without a unit it is too easily meant as megabytes.
+pub fn parse_size(text: &str) -> Result<u64, String> {
+    let t = text.trim();
+    let split = t.find(|c: char| !(c.is_ascii_digit() || c == '.')).unwrap_or(t.len());
+    let (number, unit) = t.split_at(split);
+    let unit = unit.trim();
+    let value: f64 = number.parse().map_err(|_| format!("`{text}` is not a size (expected a number and a unit, e.g. 8G or 500M)"))?;
+    let base = unit.trim_end_matches(['b', 'B']).trim_end_matches(['i', 'I']);
+    let scale: u64 = match base.to_ascii_uppercase().as_str() {
+        "K" => 1 << 10,
+        "M" => MIB,
+        "G" => GIB,
+        "T" => 1 << 40,
+        "" => return Err(format!("`{text}` has no unit; give one: K, M, G or T (e.g. 8G, 500M)")),
+        _ => return Err(format!("`{text}`: unknown unit `{unit}` (expected K, M, G or T, e.g. 8G, 500M)")),
+    };
+    let bytes = value * scale as f64;
+    if !(bytes.is_finite() && bytes >= 1.0 && bytes < u64::MAX as f64) {
+        return Err(format!("`{text}` is not a usable size (at least 1 byte)"));
+    }
+    Ok(bytes as u64)
+}
+
 /// `len` copies of `value` in a new vector, or an error naming `what` and the bytes it needed.
 pub fn try_filled<T: Clone>(len: usize, value: T, what: &'static str) -> Result<Vec<T>, OutOfMemory> {
     let mut v = reserve(len, what)?;
@@ -65,6 +102,19 @@ fn reserve<T>(len: usize, what: &'static str) -> Result<Vec<T>, OutOfMemory> {
 #[cfg(test)]
 mod tests {
     use super::*;
+
+    #[test]
+    fn sizes_need_a_binary_unit() {
+        assert_eq!(parse_size("8G"), Ok(8 * GIB));
+        assert_eq!(parse_size("500M"), Ok(500 * MIB));
+        assert_eq!(parse_size("1.5GiB"), Ok(3 * GIB / 2));
+        assert_eq!(parse_size(" 64 kb "), Ok(64 << 10));
+        assert_eq!(parse_size("2t"), Ok(2 << 40));
+        for bad in ["8000", "8X", "G", "", "-1G", "0M", "1e3G", "nanG"] {
+            assert!(parse_size(bad).is_err(), "{bad}");
+        }
+        assert!(parse_size("8000").unwrap_err().contains("no unit"));
+    }
 
     #[test]
     fn bytes_read_in_binary_units() {

@@ -11,6 +11,7 @@ mod functionals;
 mod html;
 mod inspect;
 mod localized;
+mod memory;
 mod real_world;
 mod reference;
 mod trust;
