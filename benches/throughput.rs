@@ -99,7 +99,7 @@ fn main() {
     let plain = EngineParams { trust: TrustParams { error_bars: false, ..TrustParams::default() }, ..EngineParams::default() };
     for (label, par) in [("1 thread", Parallelism::Sequential), ("all threads", Parallelism::Rayon)] {
         let engine = Engine::new(models.clone(), plain.clone());
-        let (setup, solver) = best(1, || engine.solver(&g, par));
+        let (setup, solver) = best(1, || engine.solver(&g, par).expect("kernel"));
         let padded = solver.padded_shape();
         let (t, report) = best(5, || engine.analyse(&orbital, par).expect("analyse"));
         println!(
@@ -113,7 +113,7 @@ fn main() {
         let (t, _) = best(3, || checked.analyse(&orbital, par).expect("analyse"));
         println!("{:<52} {:>9.3} s", format!("  … with error bars and checks ({label})"), t.as_secs_f64());
         let every = Engine::new(every_functional.clone(), plain.clone());
-        every.solver(&g, par);
+        every.solver(&g, par).expect("kernel");
         let (t, _) = best(3, || every.analyse(&orbital, par).expect("analyse"));
         println!("{:<52} {:>9.3} s", format!("J + all 12 functionals, gradients incl. ({label})"), t.as_secs_f64());
     }

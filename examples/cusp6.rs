@@ -61,7 +61,7 @@ fn main() {
                     *rv -= q*z.powi(3)/std::f64::consts::PI*(-2.0*z*dist).exp();
                     *v += if dist < 1e-12 { q*z } else { q*((1.0-(-2.0*z*dist).exp())/dist - z*(-2.0*z*dist).exp()) }; }
             }
-            let solver = HartreeSolver::new(&g, &HartreeParams::default(), Parallelism::Rayon);
+            let solver = HartreeSolver::new(&g, &HartreeParams::default(), Parallelism::Rayon).unwrap();
             let jr = solver.self_energy(&rem, Parallelism::Rayon).unwrap();
             let cross = w * rem.iter().zip(&vm).map(|(a,b)| a*b).sum::<f64>();
             let mut jm = 0.0;

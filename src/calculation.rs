@@ -6,7 +6,8 @@
 //! The unit of work is a file (one or several orbitals). A file that cannot be read or analysed
 //! is recorded as a failure and the others go on. Memory stays bounded: with at least as many
 //! files as threads, files run in parallel and each one sequentially (at most one file's grids
-//! per thread); with fewer, files run one after the other and each uses every thread. Results
+//! per thread); with fewer, files run one after the other and each uses every thread. Under a
+//! memory budget, files start only when their estimated peak fits (see [`run_files`]). Results
 //! do not depend on which: every sum has a fixed order.
 
 use crate::cache::{ResultCache, file_digest, settings_fingerprint};
@@ -17,6 +18,8 @@ use crate::input::{LoadParams, geometry_of, load_cube, orbital_labels};
 use crate::molecular::{
     MolecularParams, analyse_molden, analyse_molden_localized, occupation_summary, occupied_orbitals, sample_molden,
 };
+use crate::memory::estimate::{self, FileEstimate, estimate_file};
+use crate::memory::ledger::Ledger;
 use crate::par::Parallelism;
 use crate::progress::{Progress, Silent};
 use sixray_parsers::cube::read_cube_header;
@@ -283,6 +286,11 @@ fn analyse_basis_file(path: &Path, params: &MolecularParams, engine: &Engine, pa
 }
 
 /// Runs every job, in parallel where that keeps memory bounded; results in job order.
+///
+/// Under the engine's memory budget ([`Engine::memory_budget`]) each file's peak is estimated
+/// from its header first ([`crate::memory::estimate`]): a file that cannot fit fails alone with
+/// a message saying what it needs, and files start only when they fit beside those in flight
+/// ([`crate::memory::ledger`]); a file run alone uses fewer threads where that makes it fit.
 pub fn run_files(
     jobs: &[FileJob],
     engine: &Engine,
@@ -291,11 +299,57 @@ pub fn run_files(
 ) -> Vec<Result<Vec<OrbitalReport>, FileFailure>> {
     let run = |job: &FileJob, par: Parallelism| analyse_file(job, engine, par, cache, progress);
     let threads = rayon::current_num_threads();
-    if threads > 1 && jobs.len() >= threads {
-        prepare_solvers(jobs, engine);
-        Parallelism::Rayon.map(jobs.len(), |i| run(&jobs[i], Parallelism::Sequential))
+    let parallel = threads > 1 && jobs.len() >= threads;
+    let Some(budget) = engine.memory_budget() else {
+        if parallel {
+            prepare_solvers(jobs, engine);
+            return Parallelism::Rayon.map(jobs.len(), |i| run(&jobs[i], Parallelism::Sequential));
+        }
+        return jobs.iter().map(|j| run(j, Parallelism::Rayon)).collect();
+    };
+    let ledger = Ledger::new(engine, budget);
+    // A header that cannot be read has no estimate: its file fails at once with the full error.
+    let estimate = |job: &FileJob, workers: usize| estimate_file(&job.path, &job.load, engine, workers).ok();
+    let too_big = |job: &FileJob, message: String| {
+        progress.file_started(job);
+        progress.file_failed(job, &message);
+        Err(FileFailure { source: job.path.display().to_string(), error: message })
+    };
+    let source = |job: &FileJob| job.path.display().to_string();
+    if parallel {
+        let estimates: Vec<Option<FileEstimate>> = jobs.iter().map(|j| estimate(j, 1)).collect();
+        if ledger.kernels_fit(&estimates.iter().flatten().collect::<Vec<_>>()) {
+            prepare_solvers(jobs, engine);
+        }
+        Parallelism::Rayon.map(jobs.len(), |i| match &estimates[i] {
+            None => run(&jobs[i], Parallelism::Sequential),
+            Some(e) => match ledger.check(&source(&jobs[i]), e) {
+                Err(message) => too_big(&jobs[i], message),
+                Ok(()) => {
+                    let _place = ledger.admit(e);
+                    run(&jobs[i], Parallelism::Sequential)
+                }
+            },
+        })
     } else {
-        jobs.iter().map(|j| run(j, Parallelism::Rayon)).collect()
+        jobs.iter()
+            .map(|job| {
+                let Some(all) = estimate(job, threads) else { return run(job, Parallelism::Rayon) };
+                if ledger.check("", &all).is_ok() {
+                    let _place = ledger.admit(&all);
+                    return run(job, Parallelism::Rayon);
+                }
+                // One thread holds fewer sub-lattices and planes at once.
+                let Some(one) = estimate(job, 1) else { return run(job, Parallelism::Sequential) };
+                match ledger.check(&source(job), &one) {
+                    Err(message) => too_big(job, message),
+                    Ok(()) => {
+                        let _place = ledger.admit(&one);
+                        run(job, Parallelism::Sequential)
+                    }
+                }
+            })
+            .collect()
     }
 }
 
@@ -368,6 +422,11 @@ pub fn analyse_localized(
     let mut grid_complete = true;
     type Localized = (Vec<OrbitalReport>, Vec<ChannelLocalization>);
     let localize_on_grid = |orbitals: Vec<GridOrbital>, source: &str| -> Result<Localized, String> {
+        // The canonical orbitals and their localized copies, then each one through the engine.
+        if let (Some(budget), Some(first)) = (engine.memory_budget(), orbitals.first()) {
+            let need = estimate::grid_estimate(&first.geometry, 2 * orbitals.len(), !first.nuclei.is_empty(), engine, rayon::current_num_threads());
+            Ledger::new(engine, budget).check(source, &need)?;
+        }
         let (localized, channels) = localize_grid_orbitals(&orbitals, localize).map_err(|e| format!("{source}: {e}"))?;
         let mut reports = Vec::with_capacity(localized.len());
         for o in &localized {
@@ -386,12 +445,16 @@ pub fn analyse_localized(
             }
             Ok(FileFormat::Molden | FileFormat::Fchk | FileFormat::Wfn | FileFormat::Wfx) => {
                 let source = path.display().to_string();
-                let result = match load.molecular.uniform_spacing {
+                let fits = || match (engine.memory_budget(), estimate_file(path, load, engine, rayon::current_num_threads())) {
+                    (Some(budget), Ok(need)) => Ledger::new(engine, budget).check(&source, &need),
+                    _ => Ok(()),
+                };
+                let result = fits().and_then(|()| match load.molecular.uniform_spacing {
                     None => analyse_molden_localized(path, engine, &load.molecular, localize, par).map_err(|e| e.to_string()),
                     Some(h) => sample_molden(path, h, load.molecular.uniform_margin, par)
                         .map_err(|e| e.to_string())
                         .and_then(|orbitals| localize_on_grid(orbitals, &source)),
-                };
+                });
                 match result {
                     Ok((r, _)) if r.is_empty() => failures.push(fail(no_occupied(path, FileFormat::Molden))),
                     Ok((r, channels)) => {
@@ -471,7 +534,8 @@ fn prepare_solvers(jobs: &[FileJob], engine: &Engine) {
     }
     if grids.len() <= engine.params().solver_cache {
         for g in &grids {
-            engine.solver(g, Parallelism::Rayon);
+            // A kernel that does not fit fails its files later, with their names.
+            let _ = engine.solver(g, Parallelism::Rayon);
         }
     }
 }

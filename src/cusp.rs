@@ -274,14 +274,14 @@ pub(crate) fn hartree(engine: &Engine, g: &GridGeometry, rho: &[f64], models: &[
     let [_, n1, n2] = g.shape;
     let at = |k: usize| g.point([k / (n1 * n2), (k / n2) % n1, k % n2]);
     // Remainder n − M on the grid, and Σ w (n − M) V_M.
-    let remainder: Vec<f64> = rho
-        .iter()
-        .enumerate()
-        .map(|(k, &n)| {
+    let remainder = crate::memory::try_collect(
+        rho.len(),
+        rho.iter().enumerate().map(|(k, &n)| {
             let p = at(k);
             n - models.iter().map(|m| m.density(distance(p, m.position))).sum::<f64>()
-        })
-        .collect();
+        }),
+        "the density less its cusps",
+    )?;
     let cross = w * par.chunked_sum(remainder.len(), |range| {
         range.map(|k| {
             let p = at(k);
@@ -289,7 +289,7 @@ pub(crate) fn hartree(engine: &Engine, g: &GridGeometry, rho: &[f64], models: &[
         })
         .sum()
     });
-    let smooth = engine.solver(g, par).self_energy(&remainder, par)?;
+    let smooth = engine.solver(g, par)?.self_energy(&remainder, par)?;
     let mut exact = 0.0;
     for (i, a) in models.iter().enumerate() {
         exact += a.charge * a.charge * 5.0 * a.z / 16.0;

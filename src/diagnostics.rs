@@ -19,12 +19,13 @@ use crate::gradient::{GradientParams, gradient_squared};
 use crate::grid::{GridGeometry, Nucleus};
 use crate::input::KindOrigin;
 use crate::par::Parallelism;
-use crate::poisson::{HartreeParams, HartreeSolver};
+use crate::memory::{MemoryBudget, OutOfMemory};
+use crate::poisson::{HartreeParams, HartreeSolver, PoissonError};
 use crate::xc::slater::XAlpha;
 use crate::xc::{DENSITY_FLOOR, Family, Functional, Model, Part, XcPoint};
 use serde::{Deserialize, Serialize};
 use std::collections::HashMap;
-use std::sync::{Arc, Mutex, OnceLock};
+use std::sync::{Arc, Mutex};
 use thiserror::Error;
 
 /// Which spin-orbitals a grid of orbital values stands for.
@@ -124,24 +125,33 @@ impl GridOrbital {
 
     /// n_i = f_i φ_i² (or f_i times the density values) at every grid point, electrons/bohr³.
     pub fn density(&self) -> Vec<f64> {
-        let f = self.occupation;
+        self.values.iter().map(|&v| self.density_at(v)).collect()
+    }
+
+    /// [`GridOrbital::density`], or an error where its memory cannot be had.
+    pub fn try_density(&self) -> Result<Vec<f64>, OutOfMemory> {
+        crate::memory::try_collect(self.values.len(), self.values.iter().map(|&v| self.density_at(v)), "the orbital density")
+    }
+
+    /// The density of one stored value.
+    fn density_at(&self, v: f64) -> f64 {
         match self.kind {
-            Kind::Amplitude => self.values.iter().map(|v| f * v * v).collect(),
-            Kind::Density => self.values.iter().map(|v| f * v).collect(),
+            Kind::Amplitude => self.occupation * v * v,
+            Kind::Density => self.occupation * v,
         }
     }
 
     /// |∇n_i|² at every grid point, electrons²/bohr⁸. From amplitudes as `4f²φ²|∇φ|²`: φ is
     /// linear through nodal surfaces and decays half as fast as n, so its finite differences are
     /// far more accurate than those of n itself.
-    pub fn density_gradient_squared(&self, params: &GradientParams, par: Parallelism) -> Vec<f64> {
+    pub fn density_gradient_squared(&self, params: &GradientParams, par: Parallelism) -> Result<Vec<f64>, OutOfMemory> {
         let f = self.occupation;
-        let mut g = gradient_squared(&self.geometry, &self.values, params, par);
+        let mut g = gradient_squared(&self.geometry, &self.values, params, par)?;
         match self.kind {
             Kind::Amplitude => g.iter_mut().zip(&self.values).for_each(|(g, v)| *g *= 4.0 * f * f * v * v),
             Kind::Density => g.iter_mut().for_each(|g| *g *= f * f),
         }
-        g
+        Ok(g)
     }
 }
 
@@ -399,9 +409,13 @@ pub enum DiagnosticsError {
         /// ∫ n_i, electrons.
         norm: f64,
     },
-    /// The orbital's values do not match its grid.
+    /// The orbital's values do not match its grid, or the Coulomb solver's memory could not be
+    /// had.
     #[error(transparent)]
     Poisson(#[from] crate::poisson::PoissonError),
+    /// A grid-sized buffer could not be allocated.
+    #[error(transparent)]
+    OutOfMemory(#[from] OutOfMemory),
 }
 
 /// Settings of the engine.
@@ -442,15 +456,17 @@ pub struct Engine {
     models: Vec<Model>,
     params: EngineParams,
     solvers: Mutex<Vec<(GridGeometry, SolverCell)>>,
+    /// Not part of the settings: it changes which files run together, never a number.
+    memory: Option<MemoryBudget>,
 }
 
 /// A solver built at most once, by whichever thread asks first.
-type SolverCell = Arc<OnceLock<Arc<HartreeSolver>>>;
+type SolverCell = Arc<Mutex<Option<Arc<HartreeSolver>>>>;
 
 impl Engine {
     /// An engine evaluating `models` in this order.
     pub fn new(models: Vec<Model>, params: EngineParams) -> Self {
-        Engine { models, params, solvers: Mutex::new(Vec::new()) }
+        Engine { models, params, solvers: Mutex::new(Vec::new()), memory: None }
     }
 
     /// The models, in report order.
@@ -463,14 +479,15 @@ impl Engine {
         &self.params
     }
 
-    /// The Coulomb solver for `geometry`, built on first use (once, even if several threads ask).
-    pub fn solver(&self, geometry: &GridGeometry, par: Parallelism) -> Arc<HartreeSolver> {
+    /// The Coulomb solver for `geometry`, built on first use (once, even if several threads
+    /// ask); fails only when the kernel's memory cannot be had (then a later call tries again).
+    pub fn solver(&self, geometry: &GridGeometry, par: Parallelism) -> Result<Arc<HartreeSolver>, PoissonError> {
         let cell = {
             let mut cache = self.solvers.lock().unwrap_or_else(|e| e.into_inner());
             match cache.iter().find(|(g, _)| g.same_lattice(geometry)) {
                 Some((_, cell)) => cell.clone(),
                 None => {
-                    let cell = Arc::new(OnceLock::new());
+                    let cell = SolverCell::default();
                     cache.push((geometry.clone(), cell.clone()));
                     if cache.len() > self.params.solver_cache.max(1) {
                         cache.remove(0);
@@ -479,7 +496,36 @@ impl Engine {
                 }
             }
         };
-        cell.get_or_init(|| Arc::new(HartreeSolver::new(geometry, &self.params.hartree, par))).clone()
+        // Whoever comes first builds; the others wait on the cell, not on the whole cache.
+        let mut slot = cell.lock().unwrap_or_else(|e| e.into_inner());
+        if let Some(solver) = slot.as_ref() {
+            return Ok(solver.clone());
+        }
+        let solver = Arc::new(HartreeSolver::new(geometry, &self.params.hartree, par)?);
+        *slot = Some(solver.clone());
+        Ok(solver)
+    }
+
+    /// The grids whose Coulomb solvers are cached (built or being built).
+    pub fn cached_solvers(&self) -> Vec<GridGeometry> {
+        self.solvers.lock().unwrap_or_else(|e| e.into_inner()).iter().map(|(g, _)| g.clone()).collect()
+    }
+
+    /// Drops the cached solvers of the grids `keep` rejects (their memory goes once no
+    /// calculation holds them any more).
+    pub fn release_solvers(&self, keep: impl Fn(&GridGeometry) -> bool) {
+        self.solvers.lock().unwrap_or_else(|e| e.into_inner()).retain(|(g, _)| keep(g));
+    }
+
+    /// This engine with a memory budget for the files run through it ([`crate::calculation`]).
+    pub fn with_memory_budget(mut self, budget: Option<MemoryBudget>) -> Self {
+        self.memory = budget;
+        self
+    }
+
+    /// The memory budget of the files run through this engine, if any.
+    pub fn memory_budget(&self) -> Option<&MemoryBudget> {
+        self.memory.as_ref()
     }
 
     /// Grid sums of one orbital: norm, J and each model's energies, with the cusp models
@@ -487,7 +533,7 @@ impl Engine {
     /// to report the correction's size.
     pub(crate) fn grid_sums(&self, orbital: &GridOrbital, par: Parallelism, cusps: CuspModels, detail: bool) -> Result<GridSums, DiagnosticsError> {
         let w = orbital.geometry.voxel_volume();
-        let rho = orbital.density();
+        let rho = orbital.try_density()?;
         let norm = w * par.chunked_sum(rho.len(), |r| rho[r].iter().sum());
         let refine_xc = matches!(cusps, CuspModels::Fitted);
         let cusps: Vec<CuspModel> = match cusps {
@@ -495,7 +541,7 @@ impl Engine {
             CuspModels::Fitted => orbital.nuclei.iter().filter_map(|n| CuspModel::fit(orbital, n)).collect(),
             CuspModels::SplitJ(given) => given.to_vec(),
         };
-        let plain_hartree = || self.solver(&orbital.geometry, par).self_energy(&rho, par);
+        let plain_hartree = || self.solver(&orbital.geometry, par)?.self_energy(&rho, par);
         let (hartree, plain) = if cusps.is_empty() {
             (plain_hartree()?, None)
         } else {
@@ -505,7 +551,7 @@ impl Engine {
 
         // Gradients only when some model reads them; τ of one orbital follows from them.
         let needs_gradient = self.models.iter().any(|m| m.family() >= Family::Gga);
-        let grad_sq = needs_gradient.then(|| orbital.density_gradient_squared(&self.params.gradient, par));
+        let grad_sq = needs_gradient.then(|| orbital.density_gradient_squared(&self.params.gradient, par)).transpose()?;
         // Each distinct functional is integrated once, however many models share it.
         let mut cache: HashMap<(Part, String), f64> = HashMap::new();
         let mut energy = |f: &dyn Functional| -> f64 {

@@ -13,6 +13,7 @@
 //! ```
 
 use crate::grid::{GridGeometry, dot};
+use crate::memory::{OutOfMemory, try_filled};
 use crate::par::Parallelism;
 
 /// Settings of the finite-difference gradient.
@@ -82,11 +83,12 @@ impl AxisStencil {
     }
 }
 
-/// |∇n|² at every grid point of `values` (bohr⁻² times the square of the values' unit).
+/// |∇n|² at every grid point of `values` (bohr⁻² times the square of the values' unit), or an
+/// error where its memory cannot be had.
 ///
 /// # Panics
 /// If `values` does not have one value per grid point (a caller bug).
-pub fn gradient_squared(geometry: &GridGeometry, values: &[f64], params: &GradientParams, par: Parallelism) -> Vec<f64> {
+pub fn gradient_squared(geometry: &GridGeometry, values: &[f64], params: &GradientParams, par: Parallelism) -> Result<Vec<f64>, OutOfMemory> {
     let [_, n1, n2] = geometry.shape;
     assert_eq!(values.len(), geometry.len(), "one value per grid point");
     let stencils = geometry.shape.map(|n| AxisStencil::new(n, params.stencil.max(2)));
@@ -102,7 +104,7 @@ pub fn gradient_squared(geometry: &GridGeometry, values: &[f64], params: &Gradie
         let s = strides[axis];
         w.iter().enumerate().map(|(k, wk)| wk * values[base + (start + k) * s]).sum()
     };
-    let mut out = vec![0.0; values.len()];
+    let mut out = try_filled(values.len(), 0.0, "the density gradient")?;
     let slabs = out.chunks_mut(n1 * n2).enumerate().collect::<Vec<_>>();
     par.for_each_init(
         slabs,
@@ -126,7 +128,7 @@ pub fn gradient_squared(geometry: &GridGeometry, values: &[f64], params: &Gradie
             }
         },
     );
-    out
+    Ok(out)
 }
 
 #[cfg(test)]
@@ -155,7 +157,7 @@ mod tests {
         let c = [0.7, -0.4, 0.5];
         let f = |r: [f64; 3]| dot(&c, &r).powi(8) + r[0];
         let values = g.sample(f);
-        let got = gradient_squared(&g, &values, &GradientParams::default(), Parallelism::Sequential);
+        let got = gradient_squared(&g, &values, &GradientParams::default(), Parallelism::Sequential).unwrap();
         let want = g.sample(|r| {
             let s = 8.0 * dot(&c, &r).powi(7);
             let grad = [s * c[0] + 1.0, s * c[1], s * c[2]];
@@ -173,7 +175,7 @@ mod tests {
             let axes = [[h, 0.0, 0.0], [0.3 * h, 0.95 * h, 0.0], [0.0, 0.2 * h, h]];
             let g = GridGeometry::around(axes, [0.0; 3], 5.0).unwrap();
             let values = g.sample(|r| (-a * dot(&r, &r)).exp());
-            let got = gradient_squared(&g, &values, &GradientParams::default(), Parallelism::Rayon);
+            let got = gradient_squared(&g, &values, &GradientParams::default(), Parallelism::Rayon).unwrap();
             let want = g.sample(|r| 4.0 * a * a * dot(&r, &r) * (-2.0 * a * dot(&r, &r)).exp());
             got.iter().zip(&want).map(|(x, y)| (x - y).abs()).fold(0.0, f64::max)
         };
@@ -188,7 +190,7 @@ mod tests {
     fn short_axes_use_every_point_and_single_points_have_no_slope() {
         let g = GridGeometry::new([0.0; 3], [[0.5, 0.0, 0.0], [0.0, 0.5, 0.0], [0.0, 0.0, 0.5]], [3, 1, 2]).unwrap();
         let values = g.sample(|r| 2.0 * r[0] - 3.0 * r[2] + 1.0);
-        let got = gradient_squared(&g, &values, &GradientParams::default(), Parallelism::Sequential);
+        let got = gradient_squared(&g, &values, &GradientParams::default(), Parallelism::Sequential).unwrap();
         assert!(got.iter().all(|v| (v - 13.0).abs() < 1e-12), "{got:?}");
     }
 }

@@ -24,6 +24,7 @@ pub mod gradient;
 pub mod grid;
 pub mod input;
 pub mod localize;
+pub mod memory;
 pub mod molecular;
 pub mod molgrid;
 pub mod inspect;

@@ -44,6 +44,7 @@ use crate::trust::NORM_LIMIT;
 use crate::localize::{ChannelLocalization, LocalizeParams, boys, rotate};
 use crate::grid::{GridGeometry, Nucleus};
 use crate::molgrid::{GridAtom, GridLevel, MolecularGrid};
+use crate::memory::estimate::{FileEstimate, grid_estimate};
 use crate::par::Parallelism;
 use crate::xc::slater::XAlpha;
 use crate::xc::{Family, Functional, Part};
@@ -480,17 +481,8 @@ pub fn sample_molden(path: &Path, spacing: f64, margin: f64, par: Parallelism) -
     let (basis, orbitals, _) = crate::basis::read_any(path)?;
     let stem = crate::input::stem(path);
     let occupied = occupied(&orbitals, &stem);
-    let (mut lo, mut hi) = ([f64::INFINITY; 3], [f64::NEG_INFINITY; 3]);
-    for a in &basis.atoms {
-        for x in 0..3 {
-            lo[x] = lo[x].min(a.position[x] - margin);
-            hi[x] = hi[x].max(a.position[x] + margin);
-        }
-    }
-    let shape = [0, 1, 2].map(|x| ((hi[x] - lo[x]) / spacing).ceil() as usize + 1);
-    let axes = [[spacing, 0.0, 0.0], [0.0, spacing, 0.0], [0.0, 0.0, spacing]];
-    let geometry = GridGeometry::new(lo, axes, shape)
-        .map_err(|e| BasisError::Invalid { path: Some(path.to_path_buf()), line: None, message: format!("no uniform grid: {e}") })?;
+    let geometry = uniform_grid(path, &basis, spacing, margin)?;
+    let shape = geometry.shape;
     // Points in storage order (k fastest), made and evaluated a slab at a time so that memory
     // holds the values and one slab's points and gradients, not the whole grid's.
     let slab = shape[1] * shape[2];
@@ -530,6 +522,56 @@ pub fn sample_molden(path: &Path, spacing: f64, margin: f64, par: Parallelism) -
         }
     }
     Ok(out)
+}
+
+/// The uniform grid of `spacing` bohr that reaches `margin` bohr beyond every atom of `basis`.
+fn uniform_grid(path: &Path, basis: &BasisSet, spacing: f64, margin: f64) -> Result<GridGeometry, BasisError> {
+    let (mut lo, mut hi) = ([f64::INFINITY; 3], [f64::NEG_INFINITY; 3]);
+    for a in &basis.atoms {
+        for x in 0..3 {
+            lo[x] = lo[x].min(a.position[x] - margin);
+            hi[x] = hi[x].max(a.position[x] + margin);
+        }
+    }
+    let shape = [0, 1, 2].map(|x| ((hi[x] - lo[x]) / spacing).ceil() as usize + 1);
+    let axes = [[spacing, 0.0, 0.0], [0.0, spacing, 0.0], [0.0, 0.0, spacing]];
+    GridGeometry::new(lo, axes, shape)
+        .map_err(|e| BasisError::Invalid { path: Some(path.to_path_buf()), line: None, message: format!("no uniform grid: {e}") })
+}
+
+/// What analysing the basis-set file at `path` with `workers` threads will need at its peak
+/// (see [`crate::memory::estimate`]): on the exact path the atom-centred grid (32 bytes a point),
+/// a batch of orbitals' values and gradients there (32 bytes a point and orbital) or the
+/// Coulomb integrals' Hermite densities, whichever is more; on a uniform grid the sampled
+/// orbitals and the grid path.
+pub fn memory_estimate(path: &Path, params: &MolecularParams, engine: &Engine, workers: usize) -> Result<FileEstimate, BasisError> {
+    let (basis, orbitals, _) = crate::basis::read_any(path)?;
+    let count = occupied(&orbitals, &crate::input::stem(path)).len();
+    let batch = ORBITAL_BATCH.min(count) as u64;
+    let functions = basis.function_count() as u64;
+    // Overlap and dipole matrices of the convention check and the localization, a few at once.
+    let matrices = 4 * 8 * functions * functions;
+    match params.uniform_spacing {
+        Some(spacing) => {
+            let geometry = uniform_grid(path, &basis, spacing, params.uniform_margin)?;
+            let mut e = grid_estimate(&geometry, count, true, engine, workers);
+            // While sampling: the sampled orbitals, and one pass's points and values with gradients.
+            let pass = SAMPLING_CHUNK.max(geometry.shape[1] * geometry.shape[2]) as u64;
+            let values = 8 * geometry.len() as u64 * count as u64;
+            e.own = e.own.max(values + pass * (24 + 32 * batch)) + matrices;
+            Ok(e)
+        }
+        None => {
+            let atoms: Vec<GridAtom> =
+                basis.atoms.iter().map(|a| GridAtom { position: a.position, atomic_number: a.atomic_number as i32 }).collect();
+            let points = MolecularGrid::point_bound(&atoms, params.grid) as u64;
+            // Points and weights; per orbital of a batch values and gradients; one density and |∇n|².
+            let grid = points * (32 + 32 * batch + 16);
+            let hermite = crate::basis::coulomb::hermite_peak_bytes(&basis, count);
+            let what = format!("{points} atom-centred grid points and {functions} basis functions");
+            Ok(FileEstimate { own: grid.max(hermite) + matrices, kernels: Vec::new(), what })
+        }
+    }
 }
 
 #[cfg(test)]

@@ -140,9 +140,7 @@ impl MolecularGrid {
                 let x = i as f64 / (n_radial + 1) as f64;
                 let r = -alpha * (1.0 - x * x * x).ln();
                 let dr = 3.0 * alpha * x * x / (1.0 - x * x * x) / (n_radial + 1) as f64;
-                // Fewer angular points close to the nucleus (the first ~15 % of the radial
-                // range), where the density is nearly spherical.
-                let order = if x < 0.25 { (n_angular / 3).max(4) } else if x < 0.4 { (2 * n_angular / 3).max(6) } else { n_angular };
+                let order = shell_order(x, n_angular);
                 let rotation = shell_rotation(i);
                 for &(u, wu) in &spheres[order - 1] {
                     let u = rotate(&rotation, u);
@@ -166,6 +164,19 @@ impl MolecularGrid {
         MolecularGrid { points, weights }
     }
 
+    /// Points the grid for `atoms` at `level` has at most (before points of zero cell weight
+    /// are dropped), without building it: for memory estimates.
+    pub fn point_bound(atoms: &[GridAtom], level: GridLevel) -> usize {
+        atoms
+            .iter()
+            .map(|atom| {
+                let (n_radial, n_angular) = level.sizes(atom.atomic_number);
+                // The product rule of order n has n·2n points.
+                (1..=n_radial).map(|i| 2 * shell_order(i as f64 / (n_radial + 1) as f64, n_angular).pow(2)).sum::<usize>()
+            })
+            .sum()
+    }
+
     /// Number of points.
     pub fn len(&self) -> usize {
         self.points.len()
@@ -175,6 +186,13 @@ impl MolecularGrid {
     pub fn is_empty(&self) -> bool {
         self.points.is_empty()
     }
+}
+
+/// The angular order on the radial shell at `x` = i/(N+1) for an atom of angular order
+/// `n_angular`: fewer points close to the nucleus (the first ~15 % of the radial range), where
+/// the density is nearly spherical.
+fn shell_order(x: f64, n_angular: usize) -> usize {
+    if x < 0.25 { (n_angular / 3).max(4) } else if x < 0.4 { (2 * n_angular / 3).max(6) } else { n_angular }
 }
 
 /// The rotation (row-major 3 × 3) of the angular rule on radial shell `i`: Euler angles from a
@@ -238,6 +256,18 @@ mod tests {
             let got: f64 = rule.iter().map(|(u, w)| w * u[0].powi(2 * a) * u[1].powi(2 * b) * u[2].powi(2 * c)).sum();
             let want = 4.0 * PI * dfact(2 * a - 1) * dfact(2 * b - 1) * dfact(2 * c - 1) / dfact(2 * (a + b + c) + 1);
             assert!((got - want).abs() < 1e-13, "{a}{b}{c}: {got} vs {want}");
+        }
+    }
+
+    #[test]
+    fn the_point_bound_counts_every_point_of_a_lone_atom() {
+        // A lone atom keeps every point (its cell weight is 1); two atoms drop a few.
+        for level in [GridLevel::Coarse, GridLevel::Default] {
+            let one = [GridAtom { position: [0.0; 3], atomic_number: 8 }];
+            assert_eq!(MolecularGrid::new(&one, level).len(), MolecularGrid::point_bound(&one, level));
+            let two = [one[0], GridAtom { position: [0.0, 0.0, 1.8], atomic_number: 1 }];
+            let built = MolecularGrid::new(&two, level).len();
+            assert!(built <= MolecularGrid::point_bound(&two, level) && built > MolecularGrid::point_bound(&two, level) / 2);
         }
     }
 

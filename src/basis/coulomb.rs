@@ -381,16 +381,9 @@ pub(crate) fn self_energies_in_batches(
     );
     let max_l = basis.shells.iter().map(|s| s.l as usize).max().unwrap_or(0);
     let index = HermiteIndex::new(2 * max_l);
-    // The Hermite densities take 16 bytes per orbital, primitive pair and Hermite index; orbitals
-    // go through in batches that keep them under MEMORY_BUDGET (one batch for small molecules).
-    let shells = primitive_shells(basis, &[]);
-    let per_orbital: usize = (0..shells.len())
-        .flat_map(|a| (a..shells.len()).map(move |b| (a, b)))
-        .map(|(a, b)| {
-            let (x, y) = (&shells[a], &shells[b]);
-            x.exponents.len() * y.exponents.len() * index.lists[(x.l + y.l) as usize].len() * 16
-        })
-        .sum();
+    // Orbitals go through in batches that keep the Hermite densities under MEMORY_BUDGET (one
+    // batch for small molecules).
+    let per_orbital = hermite_bytes_per_orbital(basis, &index);
     let batch = (budget / per_orbital.max(1)).max(1);
     let mut total = SelfEnergies {
         hartree: Vec::with_capacity(coefficients.len()),
@@ -408,6 +401,25 @@ pub(crate) fn self_energies_in_batches(
 
 /// Bytes of Hermite densities one batch of orbitals may hold.
 const MEMORY_BUDGET: usize = 1 << 30;
+
+/// The Hermite densities take 16 bytes per orbital, primitive pair and Hermite index.
+fn hermite_bytes_per_orbital(basis: &BasisSet, index: &HermiteIndex) -> usize {
+    let shells = primitive_shells(basis, &[]);
+    (0..shells.len())
+        .flat_map(|a| (a..shells.len()).map(move |b| (a, b)))
+        .map(|(a, b)| {
+            let (x, y) = (&shells[a], &shells[b]);
+            x.exponents.len() * y.exponents.len() * index.lists[(x.l + y.l) as usize].len() * 16
+        })
+        .sum()
+}
+
+/// Bytes of Hermite densities [`self_energies_with`] holds at once for `orbitals` orbitals.
+pub(crate) fn hermite_peak_bytes(basis: &BasisSet, orbitals: usize) -> u64 {
+    let max_l = basis.shells.iter().map(|s| s.l as usize).max().unwrap_or(0);
+    let per_orbital = hermite_bytes_per_orbital(basis, &HermiteIndex::new(2 * max_l));
+    (per_orbital * orbitals.min((MEMORY_BUDGET / per_orbital.max(1)).max(1))) as u64
+}
 
 fn batch_self_energies(
     basis: &BasisSet,

@@ -14,6 +14,7 @@ use crate::cache::ResultCache;
 use crate::calculation::{FileFailure, FileJob, Outcome, analyse_localized, count_orbitals, files_failed, run_files, split};
 use std::path::PathBuf;
 use crate::inspect::{FileInspection, InspectParams, inspect_file};
+use crate::memory::MemoryBudget;
 use crate::par::Parallelism;
 use crate::diagnostics::{Engine, EngineParams, Ranking};
 use crate::progress::Progress;
@@ -26,6 +27,8 @@ pub struct BatchParams {
     pub fresh: bool,
     /// Engine settings.
     pub engine: EngineParams,
+    /// How much memory the files may use at once (`None`: no limit is applied).
+    pub memory: Option<MemoryBudget>,
 }
 
 /// One calculation's results.
@@ -62,7 +65,8 @@ pub fn run(workflow: &Workflow, params: &BatchParams, progress: &dyn Progress) -
             tail_correction: workflow.tail_correction,
             ..params.engine.clone()
         },
-    );
+    )
+    .with_memory_budget(params.memory.clone());
     let cache = if workflow.cache {
         match ResultCache::open(&workflow.report.dir.join(CACHE_DIR), !params.fresh) {
             Ok(c) => Some(c),

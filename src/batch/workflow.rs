@@ -30,6 +30,7 @@
 //!   tolerance: 1.6                   # largest acceptable error bar, millihartree
 //!   cusp_correction: true            # cusp models at the nuclei the files list
 //!   tail_correction: false           # add the estimated tail beyond each grid's box
+//!   memory: 8G                       # memory the files may use at once (default: the job's limit)
 //! ```
 //!
 //! The whole file is checked before anything runs. Checks that need more than the value itself
@@ -136,6 +137,8 @@ pub struct Workflow {
     pub cusp_correction: bool,
     /// The estimated tail beyond each grid's box added to the values.
     pub tail_correction: bool,
+    /// Memory the files may use at once, bytes, if set.
+    pub memory: Option<u64>,
 }
 
 /// What the custom deserialisers need to know: where relative paths start, which models exist.
@@ -410,6 +413,8 @@ struct OptionsSpec {
     cusp_correction: bool,
     #[serde(default)]
     tail_correction: bool,
+    #[serde(default)]
+    memory: Option<MemorySize>,
 }
 
 fn yes() -> bool {
@@ -418,7 +423,44 @@ fn yes() -> bool {
 
 impl Default for OptionsSpec {
     fn default() -> Self {
-        OptionsSpec { threads: None, rank_by: None, cache: true, error_bars: true, tolerance: None, cusp_correction: true, tail_correction: false }
+        OptionsSpec {
+            threads: None,
+            rank_by: None,
+            cache: true,
+            error_bars: true,
+            tolerance: None,
+            cusp_correction: true,
+            tail_correction: false,
+            memory: None,
+        }
+    }
+}
+
+/// A memory size with its unit (`8G`, `500M`; see [`crate::memory::parse_size`]).
+struct MemorySize(u64);
+
+impl<'de> Deserialize<'de> for MemorySize {
+    fn deserialize<D: Deserializer<'de>>(d: D) -> Result<Self, D::Error> {
+        struct Size;
+        impl serde::de::Visitor<'_> for Size {
+            type Value = MemorySize;
+            fn expecting(&self, f: &mut std::fmt::Formatter) -> std::fmt::Result {
+                write!(f, "a memory size such as 8G or 500M")
+            }
+            fn visit_str<E: serde::de::Error>(self, v: &str) -> Result<MemorySize, E> {
+                crate::memory::parse_size(v).map(MemorySize).map_err(|e| E::custom(format!("memory: {e}")))
+            }
+            fn visit_u64<E: serde::de::Error>(self, v: u64) -> Result<MemorySize, E> {
+                self.visit_str(&v.to_string())
+            }
+            fn visit_i64<E: serde::de::Error>(self, v: i64) -> Result<MemorySize, E> {
+                self.visit_str(&v.to_string())
+            }
+            fn visit_f64<E: serde::de::Error>(self, v: f64) -> Result<MemorySize, E> {
+                self.visit_str(&v.to_string())
+            }
+        }
+        d.deserialize_any(Size)
     }
 }
 
@@ -552,6 +594,7 @@ impl Workflow {
             },
             cusp_correction: file.options.cusp_correction,
             tail_correction: file.options.tail_correction,
+            memory: file.options.memory.map(|m| m.0),
         })
     }
 }
@@ -598,12 +641,12 @@ mod tests {
         assert_eq!(w.report.formats, [ReportFormat::Markdown, ReportFormat::Csv, ReportFormat::Json, ReportFormat::Html]);
         assert_eq!((w.report.units, w.report.worst, w.cache, w.threads), (EnergyUnit::Millihartree, 20, true, None));
         assert_eq!((w.models.len(), w.rank_by), (1, 0));
-        assert_eq!((w.cusp_correction, w.tail_correction), (true, false));
+        assert_eq!((w.cusp_correction, w.tail_correction, w.memory), (true, false, None));
     }
 
     #[test]
     fn full_workflow_with_custom_models_declared_after_use() {
-        let yaml = "calculations:\n  - name: radical\n    files: [b/*.cube]\n    kind: density\n    spin: alpha\n    occupation: 0.5\n    tags: [open-shell]\nmodels: [mine, xalpha=0.8]\nreport:\n  dir: /tmp/elsewhere\n  formats: [json]\n  units: ev\n  worst: 3\noptions:\n  threads: 2\n  rank_by: scan\n  cache: false\n  tail_correction: true\ncustom_models:\n  - {name: mine, exchange: b88, correlation: pw92}\n";
+        let yaml = "calculations:\n  - name: radical\n    files: [b/*.cube]\n    kind: density\n    spin: alpha\n    occupation: 0.5\n    tags: [open-shell]\nmodels: [mine, xalpha=0.8]\nreport:\n  dir: /tmp/elsewhere\n  formats: [json]\n  units: ev\n  worst: 3\noptions:\n  threads: 2\n  rank_by: scan\n  cache: false\n  tail_correction: true\n  memory: 1.5G\ncustom_models:\n  - {name: mine, exchange: b88, correlation: pw92}\n";
         let (_dir, w) = setup(yaml);
         let w = w.unwrap();
         let c = &w.calculations[0];
@@ -614,7 +657,7 @@ mod tests {
         assert_eq!(w.rank_by, 2);
         assert_eq!(w.report.dir, PathBuf::from("/tmp/elsewhere"));
         assert_eq!((w.report.formats.clone(), w.report.units, w.report.worst), (vec![ReportFormat::Json], EnergyUnit::ElectronVolt, 3));
-        assert_eq!((w.threads, w.cache, w.tail_correction), (Some(2), false, true));
+        assert_eq!((w.threads, w.cache, w.tail_correction, w.memory), (Some(2), false, true, Some(3 << 29)));
     }
 
     #[test]
@@ -630,6 +673,8 @@ mod tests {
             (format!("{base}models: [lsda]\nreport:\n  units: joules\n"), "unknown energy unit", 6),
             (format!("{base}models: []\n"), "list of models is empty", 4),
             (format!("{base}models: [lsda]\nextra: 1\n"), "unknown field `extra`", 5),
+            (format!("{base}models: [lsda]\noptions:\n  memory: 8000\n"), "memory: `8000` has no unit", 6),
+            (format!("{base}models: [lsda]\noptions:\n  memory: lots\n"), "memory: `lots` is not a size", 6),
             ("calculations: []\nmodels: [lsda]\n".to_string(), "list of calculations is empty", 1),
         ] {
             let (_dir, w) = setup(&yaml);

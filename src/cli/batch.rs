@@ -7,6 +7,7 @@ use clap::Args;
 use serde_json::json;
 use sixray::batch::summary::SetSummary;
 use sixray::batch::{BatchParams, CACHE_DIR, Workflow, expected_orbitals, run};
+use sixray::memory::MemoryBudget;
 use sixray::report::atomic::{check_dir, remove_stale_temporaries};
 use sixray::report::set;
 use sixray::report::batch::{BatchReport, write};
@@ -35,6 +36,11 @@ pub struct BatchArgs {
     /// file and its grid files, so that a rerun writes the same bytes).
     #[arg(long, value_name = "YYYY-MM-DD")]
     date: Option<ReportDate>,
+
+    /// Memory the files may use at once, e.g. 8G or 500M (default: options.memory, else the
+    /// job's or the machine's limit less a margin); a file that cannot fit fails alone.
+    #[arg(long, value_name = "SIZE", value_parser = sixray::memory::parse_size)]
+    memory: Option<u64>,
 }
 
 /// Checks the workflow (exit 2 if it is invalid), then runs it in a pool of `threads` (or the
@@ -68,8 +74,14 @@ pub fn run_batch(args: BatchArgs, threads: Option<usize>) -> anyhow::Result<Stat
     }
     prepare_report_dir(&workflow)?;
     let display = Display::new(expected_orbitals(&workflow), args.quiet);
-    let params = BatchParams { fresh: args.fresh, ..BatchParams::default() };
-    let results = in_pool(threads.or(workflow.threads), || Ok(run(&workflow, &params, &display)))?;
+    let given = args.memory.or(workflow.memory).map(MemoryBudget::given);
+    let results = in_pool(threads.or(workflow.threads), || {
+        let memory = given.or_else(|| MemoryBudget::detect(rayon::current_num_threads()));
+        if let (Some(b), false) = (&memory, args.quiet) {
+            eprintln!("sixray: memory budget {b}");
+        }
+        Ok(run(&workflow, &BatchParams { fresh: args.fresh, memory, ..BatchParams::default() }, &display))
+    })?;
     display.finish();
 
     let summary = SetSummary::new(&results, workflow.models.len(), workflow.report.worst, workflow.trust.tolerance);

@@ -6,6 +6,7 @@ use clap::{Args, ValueEnum};
 use sixray::calculation::{OrbitalSets, Outcome, analyse_files, analyse_localized};
 use sixray::diagnostics::OrbitalSet;
 use sixray::localize::LocalizeParams;
+use sixray::memory::MemoryBudget;
 use sixray::par::Parallelism;
 use sixray::diagnostics::{Engine, EngineParams, Spin};
 use sixray::input::{Kind, LoadParams, SpinRule};
@@ -109,6 +110,11 @@ pub struct RankArgs {
     /// model exceeds THRESHOLD, given in --units (millihartree by default).
     #[arg(long, value_name = "THRESHOLD")]
     fail_above: Option<f64>,
+
+    /// Memory the files may use at once, e.g. 8G or 500M (default: the job's or the machine's
+    /// limit less a margin); a file that cannot fit fails alone.
+    #[arg(long, value_name = "SIZE", value_parser = sixray::memory::parse_size)]
+    memory: Option<u64>,
 }
 
 #[derive(Clone, Copy, Debug, ValueEnum)]
@@ -228,7 +234,8 @@ pub fn run(args: RankArgs) -> anyhow::Result<Status> {
         tail_correction: args.tail_correction,
         ..EngineParams::default()
     };
-    let engine = Engine::new(models, params);
+    let budget = args.memory.map(MemoryBudget::given).or_else(|| MemoryBudget::detect(rayon::current_num_threads()));
+    let engine = Engine::new(models, params).with_memory_budget(budget);
     let sets = match args.orbitals {
         OrbitalsArg::Canonical => OrbitalSets::Canonical,
         OrbitalsArg::Localized => OrbitalSets::Localized,

@@ -9,11 +9,14 @@
 //! of the Coulomb operator familiar from Ewald sums (common practice).
 
 use crate::grid::{GridGeometry, dot};
+use crate::memory::{OutOfMemory, try_filled};
 use crate::par::Parallelism;
-use ndarray::{Array3, Axis};
+use ndarray::{Array3, ArrayViewMut2, ArrayViewMut3, Axis};
+use rustfft::num_complex::Complex64;
 use std::f64::consts::PI;
+use std::sync::Mutex;
 
-use super::fft3::PaddedFft3;
+use super::fft3::{BLOCK, PaddedFft3, transform_columns};
 
 /// Long-range part `erf(r/σ)/r` of the Coulomb kernel, 1/bohr (`2/(σ√π)` at r = 0).
 pub(crate) fn long_range(r: f64, sigma: f64) -> f64 {
@@ -83,42 +86,112 @@ pub(crate) fn padded_len(n: usize, plane_spacing: f64, sigma: f64) -> usize {
 /// Real spectrum `K̂` of the lattice kernel on the padded grid `m` (half spectrum, shape
 /// `[m0, m1, m2/2+1]`), scaled so that `Σ_j w K(i − j) n_j` is the potential, 1/bohr.
 ///
-/// `K̂ = DFT[erf(|R|/σ)/|R|] + FT[erfc(r/σ)/r](k)/w`, with w the cell volume. Only the real part of
-/// the long-range transform is kept: that symmetrises the kernel on displacements that never
-/// occur between two grid points and changes nothing else.
-pub(crate) fn spectrum(geometry: &GridGeometry, m: [usize; 3], sigma: f64, par: Parallelism) -> Array3<f64> {
+/// `K̂ = DFT[erf(|R|/σ)/|R|] + FT[erfc(r/σ)/r](k)/w`, with w the cell volume. The long-range
+/// samples are symmetrised, `(f(d) + f(−d))/2` with `−d` taken index by index modulo `m`: that
+/// changes only displacements with a component at an axis's Nyquist index `m/2`, which never
+/// occur between two grid points (`m ≥ 2n − 1`), and makes the transform real.
+///
+/// Memory: the spectrum itself and two rows more, nothing of the padded grid's size besides.
+/// A real sequence that is even, `g(−d) = g(d)`, has first-axis slabs whose two-dimensional
+/// transforms satisfy `S_{−i0} = conj(S_{i0})`; so only the slabs `i0 ≤ m0/2` are transformed
+/// (over the last two axes, their rows generated on the fly), their real and imaginary parts
+/// stored as two rows each in the output's own buffer, and each first-axis column rebuilt from
+/// them, transformed and written back in place as the real spectrum.
+pub(crate) fn spectrum(geometry: &GridGeometry, m: [usize; 3], sigma: f64, par: Parallelism) -> Result<Array3<f64>, OutOfMemory> {
     let axes = geometry.axes;
-    let mut lr = Array3::<f64>::zeros(m);
-    let slabs = lr.axis_iter_mut(Axis(0)).enumerate().collect::<Vec<_>>();
+    let fft = PaddedFft3::new(m);
+    let h2 = m[2] / 2 + 1;
+    let half = m[0] / 2 + 1;
+    let slab = m[1] * h2;
+    let mut buf = try_filled(2 * half * slab, 0.0f64, "the Coulomb kernel")?;
+
+    // The symmetrised long-range kernel at index `i` (the mirror only where some axis sits at
+    // its Nyquist index; elsewhere f(−d) is bitwise f(d), the products merely negated).
+    let value = |i: [usize; 3]| {
+        let at = |i: [usize; 3]| {
+            let r = displacement(&axes, [0, 1, 2].map(|a| signed(i[a], m[a])));
+            long_range(dot(&r, &r).sqrt(), sigma)
+        };
+        let v = at(i);
+        if (0..3).any(|a| 2 * i[a] == m[a]) { 0.5 * (v + at([0, 1, 2].map(|a| (m[a] - i[a]) % m[a]))) } else { v }
+    };
+    let scratch_len = fft.first_axis().get_inplace_scratch_len().max(fft.middle_axis().get_inplace_scratch_len());
+    let failure: Mutex<Option<OutOfMemory>> = Mutex::new(None);
+    // Slabs i0 ≤ m0/2: rows along the last axis, then the middle axis; re and im as two rows.
+    let chunks = buf.chunks_mut(2 * slab).enumerate().collect::<Vec<_>>();
     par.for_each_init(
-        slabs,
-        || (),
-        |_, (i0, mut slab)| {
-            for ((i1, i2), v) in slab.indexed_iter_mut() {
-                let r = displacement(&axes, [signed(i0, m[0]), signed(i1, m[1]), signed(i2, m[2])]);
-                *v = long_range(dot(&r, &r).sqrt(), sigma);
+        chunks,
+        || match try_filled(slab, Complex64::default(), "a slab of the Coulomb kernel") {
+            Ok(s) => Some((s, fft.last_axis().make_input_vec(), fft.last_axis().make_scratch_vec(), vec![Complex64::default(); BLOCK * m[1]], vec![Complex64::default(); scratch_len])),
+            Err(e) => {
+                *failure.lock().unwrap_or_else(|p| p.into_inner()) = Some(e);
+                None
+            }
+        },
+        |state, (i0, rows)| {
+            let Some((spec, real, r2c_scratch, lines, scratch)) = state else { return };
+            for i1 in 0..m[1] {
+                real.iter_mut().enumerate().for_each(|(i2, v)| *v = value([i0, i1, i2]));
+                fft.last_axis().process_with_scratch(real, &mut spec[i1 * h2..(i1 + 1) * h2], r2c_scratch).expect("buffer lengths come from the plan");
+            }
+            let mut view = ArrayViewMut2::from_shape((m[1], h2), &mut spec[..]).expect("slab shape");
+            transform_columns(&mut view, m[1], fft.middle_axis(), lines, scratch);
+            let (re, im) = rows.split_at_mut(slab);
+            for ((r, i), v) in re.iter_mut().zip(im.iter_mut()).zip(spec.iter()) {
+                *r = v.re;
+                *i = v.im;
             }
         },
     );
-    let lr_hat = PaddedFft3::new(m).forward(lr.view(), par);
-    drop(lr);
+    if let Some(e) = failure.into_inner().unwrap_or_else(|p| p.into_inner()) {
+        return Err(e);
+    }
 
+    // First axis, column by column in place: S_{i0} for i0 < half as stored, conj(S_{m0−i0})
+    // above; the real part of the transform plus the short-range spectrum goes to rows 0..m0.
     let dual = geometry.dual_axes();
     let inv_w = 1.0 / geometry.voxel_volume();
-    let mut out = Array3::<f64>::zeros(lr_hat.dim());
-    let slabs = out.axis_iter_mut(Axis(0)).zip(lr_hat.axis_iter(Axis(0))).enumerate().collect::<Vec<_>>();
+    let mut grid = ArrayViewMut3::from_shape((2 * half, m[1], h2), &mut buf[..]).expect("kernel buffer shape");
+    let planes = grid.axis_iter_mut(Axis(1)).enumerate().collect::<Vec<_>>();
     par.for_each_init(
-        slabs,
-        || (),
-        |_, (k0, (mut slab, lr_slab))| {
-            for ((k1, k2), v) in slab.indexed_iter_mut() {
-                let f = [signed(k0, m[0]), signed(k1, m[1]), k2 as isize];
-                let k_sq = wave_number_sq(&dual, m, f);
-                *v = lr_slab[[k1, k2]].re + short_range_spectrum(k_sq, sigma) * inv_w;
+        planes,
+        || (vec![Complex64::default(); BLOCK * m[0]], vec![Complex64::default(); scratch_len]),
+        |(lines, scratch), (k1, mut plane)| {
+            let mut c0 = 0;
+            while c0 < h2 {
+                let width = BLOCK.min(h2 - c0);
+                let columns = &mut lines[..width * m[0]];
+                for (b, col) in columns.chunks_mut(m[0]).enumerate() {
+                    for i0 in 0..half.min(m[0]) {
+                        col[i0] = Complex64::new(plane[[2 * i0, c0 + b]], plane[[2 * i0 + 1, c0 + b]]);
+                    }
+                    for i0 in half..m[0] {
+                        col[i0] = col[m[0] - i0].conj();
+                    }
+                }
+                fft.first_axis().process_with_scratch(columns, scratch);
+                for (b, col) in columns.chunks(m[0]).enumerate() {
+                    let k2 = c0 + b;
+                    for (k0, x) in col.iter().enumerate() {
+                        let k_sq = wave_number_sq(&dual, m, [signed(k0, m[0]), signed(k1, m[1]), k2 as isize]);
+                        plane[[k0, k2]] = x.re + short_range_spectrum(k_sq, sigma) * inv_w;
+                    }
+                }
+                c0 += width;
             }
         },
     );
-    out
+    buf.truncate(m[0] * slab);
+    Ok(Array3::from_shape_vec((m[0], m[1], h2), buf).expect("the first m0 rows"))
+}
+
+/// Bytes [`spectrum`] holds at once with `workers` threads: the spectrum (two rows more while it
+/// is built) and each worker's slab.
+pub(crate) fn spectrum_bytes(m: [usize; 3], workers: usize) -> u64 {
+    let h2 = (m[2] / 2 + 1) as u64;
+    let slab = m[1] as u64 * h2;
+    let own = 2 * (m[0] / 2 + 1) as u64 * slab * 8;
+    own + workers.max(1) as u64 * (slab * 16 + (BLOCK * m[0].max(m[1])) as u64 * 16 + m[2] as u64 * 24)
 }
 
 #[cfg(test)]
@@ -155,6 +228,48 @@ mod tests {
         }
         assert!((short_range_spectrum(1e-20, sigma) - PI * sigma * sigma).abs() < 1e-15);
         assert_eq!(short_range_spectrum(0.0, sigma), PI * sigma * sigma);
+    }
+
+    /// The kernel as first written: the whole padded grid sampled, transformed, the real part
+    /// kept (twice the memory of the padded grid at once; the reference for [`spectrum`]).
+    fn spectrum_whole(geometry: &GridGeometry, m: [usize; 3], sigma: f64) -> Array3<f64> {
+        let axes = geometry.axes;
+        let lr = Array3::from_shape_fn(m, |(i0, i1, i2)| {
+            let r = displacement(&axes, [signed(i0, m[0]), signed(i1, m[1]), signed(i2, m[2])]);
+            long_range(dot(&r, &r).sqrt(), sigma)
+        });
+        let lr_hat = PaddedFft3::new(m).forward(lr.view(), Parallelism::Sequential);
+        let dual = geometry.dual_axes();
+        let inv_w = 1.0 / geometry.voxel_volume();
+        Array3::from_shape_fn(lr_hat.dim(), |(k0, k1, k2)| {
+            let k_sq = wave_number_sq(&dual, m, [signed(k0, m[0]), signed(k1, m[1]), k2 as isize]);
+            lr_hat[[k0, k1, k2]].re + short_range_spectrum(k_sq, sigma) * inv_w
+        })
+    }
+
+    #[test]
+    fn half_the_slabs_give_the_whole_grid_transform() {
+        // Odd and even lengths on every axis, orthogonal and sheared steps.
+        let sheared = [[0.3, 0.0, 0.0], [0.09, 0.285, 0.0], [0.06, -0.075, 0.27]];
+        let orthogonal = [[0.3, 0.0, 0.0], [0.0, 0.25, 0.0], [0.0, 0.0, 0.2]];
+        for axes in [orthogonal, sheared] {
+            for m in [[8, 9, 10], [7, 6, 5], [12, 12, 12], [1, 4, 3]] {
+                let g = GridGeometry::new([0.0; 3], axes, m.map(|x: usize| x.div_ceil(2))).unwrap();
+                let sigma = 3.0 * g.max_step();
+                let want = spectrum_whole(&g, m, sigma);
+                let largest = want.iter().fold(0.0f64, |a, v| a.max(v.abs()));
+                for par in [Parallelism::Sequential, Parallelism::Rayon] {
+                    let got = spectrum(&g, m, sigma, par).unwrap();
+                    assert_eq!(got.dim(), want.dim());
+                    // Round-off of an M-point transform: ε·log₂M times the largest term, with a
+                    // margin of 64.
+                    let tol = 64.0 * f64::EPSILON * (m.iter().product::<usize>() as f64).log2() * largest;
+                    for ((k, a), b) in got.indexed_iter().zip(want.iter()) {
+                        assert!((a - b).abs() <= tol, "{m:?} {axes:?} at {k:?}: {a} vs {b}");
+                    }
+                }
+            }
+        }
     }
 
     #[test]

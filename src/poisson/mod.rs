@@ -16,6 +16,13 @@
 //! ever formed. The kernel spectrum depends only on the grid's steps and shape: build one
 //! [`HartreeSolver`] per grid and reuse it for every density on that grid.
 //!
+//! Memory (8-byte values; `P = m0·m1·(m2/2+1)` half-spectrum points, about 4 per grid point):
+//! the kernel spectrum holds `8P` bytes for the solver's life, and its set-up nothing of that
+//! size besides (see [`kernel`]); a density's transform is consumed a few planes at a time
+//! ([`fft3::PaddedFft3::plane_blocks`]), so `J` holds the rows' transforms along the last axis
+//! (16 bytes per grid point, about) and a few planes per thread, never a whole spectrum.
+//! [`HartreeSolver::kernel_bytes`] and [`HartreeSolver::transform_bytes`] say how much.
+//!
 //! Accuracy: for a density that is resolved by the grid (negligible Fourier content beyond the
 //! grid's Nyquist frequency) and negligible at the box faces, J is exact to near machine
 //! precision; the only approximations are the sampling itself and `exp(−π²σ²/4h²) ≈ 2e−10` of
@@ -29,10 +36,12 @@ pub mod fft3;
 pub(crate) mod kernel;
 
 use crate::grid::GridGeometry;
+use crate::memory::OutOfMemory;
 use crate::par::Parallelism;
 use fft3::PaddedFft3;
 use ndarray::{Array3, ArrayView3, Axis};
 use rustfft::num_complex::Complex64;
+use std::ops::Range;
 use thiserror::Error;
 
 /// Settings of the free-space Coulomb solver.
@@ -60,6 +69,9 @@ pub enum PoissonError {
         /// Values passed in.
         found: usize,
     },
+    /// A buffer of the solver could not be allocated.
+    #[error(transparent)]
+    OutOfMemory(#[from] OutOfMemory),
 }
 
 /// Planned free-space Coulomb solver for one grid (steps and shape; the origin is irrelevant).
@@ -73,13 +85,33 @@ pub struct HartreeSolver {
 
 impl HartreeSolver {
     /// Plans the transforms and computes the kernel spectrum (the expensive step: one FFT of the
-    /// padded grid).
-    pub fn new(geometry: &GridGeometry, params: &HartreeParams, par: Parallelism) -> Self {
+    /// padded grid); fails only when its memory cannot be had.
+    pub fn new(geometry: &GridGeometry, params: &HartreeParams, par: Parallelism) -> Result<Self, PoissonError> {
+        let sigma = params.split_factor * geometry.max_step();
+        let m = Self::padded_shape_for(geometry, params);
+        let kernel = kernel::spectrum(geometry, m, sigma, par)?;
+        Ok(HartreeSolver { geometry: geometry.clone(), sigma, fft: PaddedFft3::new(m), kernel })
+    }
+
+    /// Shape of the zero-padded transform grid a solver for `geometry` uses.
+    pub fn padded_shape_for(geometry: &GridGeometry, params: &HartreeParams) -> [usize; 3] {
         let sigma = params.split_factor * geometry.max_step();
         let spacing = geometry.plane_spacings();
-        let m = [0, 1, 2].map(|a| kernel::padded_len(geometry.shape[a], spacing[a], sigma));
-        let kernel = kernel::spectrum(geometry, m, sigma, par);
-        HartreeSolver { geometry: geometry.clone(), sigma, fft: PaddedFft3::new(m), kernel }
+        [0, 1, 2].map(|a| kernel::padded_len(geometry.shape[a], spacing[a], sigma))
+    }
+
+    /// Bytes a solver for `geometry` holds (its kernel spectrum), and the most its set-up holds
+    /// at once with `workers` threads, `(kept, set-up peak)`.
+    pub fn kernel_bytes(geometry: &GridGeometry, params: &HartreeParams, workers: usize) -> (u64, u64) {
+        let m = Self::padded_shape_for(geometry, params);
+        let kept = (m[0] * m[1] * (m[2] / 2 + 1)) as u64 * 8;
+        (kept, kernel::spectrum_bytes(m, workers))
+    }
+
+    /// Bytes [`HartreeSolver::self_energy`] holds at once for a density on `geometry` with
+    /// `workers` threads (twice that, about, for [`HartreeSolver::interaction`]).
+    pub fn transform_bytes(geometry: &GridGeometry, params: &HartreeParams, workers: usize) -> u64 {
+        PaddedFft3::new(Self::padded_shape_for(geometry, params)).plane_block_bytes(geometry.shape, 1, workers)
     }
 
     /// The grid this solver was built for.
@@ -100,50 +132,48 @@ impl HartreeSolver {
     /// Hartree self-repulsion `J[n] = ½ ∬ n(r) n(r')/|r − r'|` of a density given per grid point
     /// (electrons/bohr³), hartree.
     pub fn self_energy(&self, density: &[f64], par: Parallelism) -> Result<f64, PoissonError> {
-        let spec = self.spectrum(density, par)?;
-        Ok(0.5 * self.contract(&spec, &spec, par))
+        let view = self.view(density)?;
+        let sums = self.fft.plane_blocks(&[view], par, |k2s, planes| self.block_sum(k2s, &planes[0], &planes[0]))?;
+        Ok(0.5 * self.finish(&sums))
     }
 
     /// Coulomb interaction `∬ a(r) b(r')/|r − r'|` of two densities on the grid, hartree.
     pub fn interaction(&self, a: &[f64], b: &[f64], par: Parallelism) -> Result<f64, PoissonError> {
-        let sa = self.spectrum(a, par)?;
-        let sb = self.spectrum(b, par)?;
-        Ok(self.contract(&sa, &sb, par))
+        let (va, vb) = (self.view(a)?, self.view(b)?);
+        let sums = self.fft.plane_blocks(&[va, vb], par, |k2s, planes| self.block_sum(k2s, &planes[0], &planes[1]))?;
+        Ok(self.finish(&sums))
     }
 
-    fn spectrum(&self, density: &[f64], par: Parallelism) -> Result<Array3<Complex64>, PoissonError> {
+    fn view<'a>(&self, density: &'a [f64]) -> Result<ArrayView3<'a, f64>, PoissonError> {
         let expected = self.geometry.len();
         if density.len() != expected {
             return Err(PoissonError::LengthMismatch { expected, found: density.len() });
         }
-        let view = ArrayView3::from_shape(self.geometry.shape, density).expect("length checked above");
-        Ok(self.fft.forward(view, par))
+        Ok(ArrayView3::from_shape(self.geometry.shape, density).expect("length checked above"))
     }
 
-    /// `(w²/M) Σ_k K̂ Re(â b̂*)` over the full spectrum, from the half spectrum: frequencies with
-    /// `0 < k2 < m2/2` stand for themselves and their mirror images.
-    fn contract(
-        &self,
-        a: &Array3<Complex64>,
-        b: &Array3<Complex64>,
-        par: Parallelism,
-    ) -> f64 {
+    /// `Σ_k K̂ Re(â b̂*)` over the planes `k2s` of the half spectrum (`a`, `b` indexed
+    /// `[k2 − k2s.start, k0, k1]`), each plane counted for its mirror image too where it has one
+    /// (`0 < k2 < m2/2`).
+    fn block_sum(&self, k2s: Range<usize>, a: &ArrayView3<Complex64>, b: &ArrayView3<Complex64>) -> f64 {
         let m = self.fft.shape();
+        let kernel = self.kernel.as_slice().expect("the kernel is contiguous");
         let h2 = m[2] / 2 + 1;
-        let weight = |k2: usize| if k2 == 0 || 2 * k2 == m[2] { 1.0 } else { 2.0 };
-        let slab_sum = |k0: usize| {
-            let (ka, kb, kk) = (a.index_axis(Axis(0), k0), b.index_axis(Axis(0), k0), self.kernel.index_axis(Axis(0), k0));
-            let mut s = 0.0;
-            for k1 in 0..m[1] {
-                for k2 in 0..h2 {
-                    let (x, y) = (ka[[k1, k2]], kb[[k1, k2]]);
-                    s += weight(k2) * kk[[k1, k2]] * (x.re * y.re + x.im * y.im);
-                }
-            }
-            s
-        };
-        // One term per slab keeps the sum order fixed whatever the threads.
-        let sums = par.map(m[0], slab_sum);
+        let mut s = 0.0;
+        for (p, k2) in k2s.enumerate() {
+            let weight = if k2 == 0 || 2 * k2 == m[2] { 1.0 } else { 2.0 };
+            let (pa, pb) = (a.index_axis(Axis(0), p), b.index_axis(Axis(0), p));
+            let (pa, pb) = (pa.as_slice().expect("planes are contiguous"), pb.as_slice().expect("planes are contiguous"));
+            // Plane points in (k0, k1) order; the kernel's value of each is h2 apart.
+            let plane: f64 = pa.iter().zip(pb).zip(kernel[k2..].iter().step_by(h2)).map(|((x, y), k)| k * (x.re * y.re + x.im * y.im)).sum();
+            s += weight * plane;
+        }
+        s
+    }
+
+    /// `(w²/M)` times the block sums, added in block order (fixed, whatever the threads).
+    fn finish(&self, sums: &[f64]) -> f64 {
+        let m = self.fft.shape();
         let w = self.geometry.voxel_volume();
         let total_points = (m[0] * m[1] * m[2]) as f64;
         w * w / total_points * sums.iter().sum::<f64>()

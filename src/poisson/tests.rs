@@ -28,7 +28,7 @@ fn fft_path_equals_direct_sum_on_tiny_grids() {
         GridGeometry::new([0.0; 3], [[0.5, 0.0, 0.0], [0.0, 0.5, 0.0], [0.0, 0.0, 0.5]], [1, 6, 2]).unwrap(),
     ];
     for (gi, g) in grids.iter().enumerate() {
-        let solver = HartreeSolver::new(g, &HartreeParams::default(), Parallelism::Sequential);
+        let solver = HartreeSolver::new(g, &HartreeParams::default(), Parallelism::Sequential).unwrap();
         // Rough, sign-changing data: the identity must hold for any input, not just smooth ones.
         let a = noise(g.len(), 1 + gi as u64);
         let b = noise(g.len(), 100 + gi as u64);
@@ -58,7 +58,7 @@ fn two_gaussians_interact_as_erf_over_distance() {
     let want = libm::erf((alpha * beta / (alpha + beta)).sqrt() * r) / r;
     let g = GridGeometry::around(sheared_axes(0.22), [0.0; 3], 9.5).unwrap();
     let gauss = |e: f64, c: [f64; 3]| g.sample(|p| (e / PI).powf(1.5) * (-e * dist(p, c).powi(2)).exp());
-    let solver = HartreeSolver::new(&g, &HartreeParams::default(), Parallelism::Rayon);
+    let solver = HartreeSolver::new(&g, &HartreeParams::default(), Parallelism::Rayon).unwrap();
     let c = solver.interaction(&gauss(alpha, ca), &gauss(beta, cb), Parallelism::Rayon).unwrap();
     assert!(((c - want) / want).abs() < 1e-8, "{c} vs {want}");
 }
@@ -74,7 +74,7 @@ fn gaussian_self_energy_is_exact_on_orthogonal_and_sheared_grids() {
             let g = GridGeometry::around(axes, [0.0; 3], radius).unwrap();
             let c = [0.37 * h, -0.21 * h, 0.11 * h];
             let n = g.sample(|r| (a / PI).powf(1.5) * (-a * dist(r, c).powi(2)).exp());
-            let solver = HartreeSolver::new(&g, &HartreeParams::default(), Parallelism::Rayon);
+            let solver = HartreeSolver::new(&g, &HartreeParams::default(), Parallelism::Rayon).unwrap();
             let j = solver.self_energy(&n, Parallelism::Rayon).unwrap();
             assert!(((j - want) / want).abs() < 1e-6, "a={a} h={h} axes={axes:?}: J={j} want {want}");
         }
@@ -93,7 +93,7 @@ fn hydrogenic_self_energy_converges_to_five_sixteenths_zeta() {
         let g = GridGeometry::around(axes, [0.0; 3], 8.0).unwrap();
         let c = [0.5 * h, 0.5 * h, 0.5 * h]; // nucleus in the middle of a cell
         let n = g.sample(|r| zeta.powi(3) / PI * (-2.0 * zeta * dist(r, c)).exp());
-        let solver = HartreeSolver::new(&g, &HartreeParams::default(), Parallelism::Rayon);
+        let solver = HartreeSolver::new(&g, &HartreeParams::default(), Parallelism::Rayon).unwrap();
         let j = solver.self_energy(&n, Parallelism::Rayon).unwrap();
         errors.push(((j - want) / want).abs());
     }
@@ -104,7 +104,7 @@ fn hydrogenic_self_energy_converges_to_five_sixteenths_zeta() {
 #[test]
 fn length_mismatch_is_an_error() {
     let g = GridGeometry::new([0.0; 3], [[0.3, 0.0, 0.0], [0.0, 0.3, 0.0], [0.0, 0.0, 0.3]], [2, 2, 2]).unwrap();
-    let solver = HartreeSolver::new(&g, &HartreeParams::default(), Parallelism::Sequential);
+    let solver = HartreeSolver::new(&g, &HartreeParams::default(), Parallelism::Sequential).unwrap();
     assert_eq!(
         solver.self_energy(&[1.0; 7], Parallelism::Sequential),
         Err(PoissonError::LengthMismatch { expected: 8, found: 7 })
@@ -114,7 +114,7 @@ fn length_mismatch_is_an_error() {
 #[test]
 fn results_do_not_depend_on_threads() {
     let g = GridGeometry::new([0.0; 3], sheared_axes(0.3), [9, 7, 8]).unwrap();
-    let solver = HartreeSolver::new(&g, &HartreeParams::default(), Parallelism::Rayon);
+    let solver = HartreeSolver::new(&g, &HartreeParams::default(), Parallelism::Rayon).unwrap();
     let n = noise(g.len(), 7);
     let a = solver.self_energy(&n, Parallelism::Sequential).unwrap();
     let b = solver.self_energy(&n, Parallelism::Rayon).unwrap();

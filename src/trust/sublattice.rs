@@ -9,29 +9,38 @@ use super::Spreads;
 use crate::cusp;
 use crate::diagnostics::{CuspModels, DiagnosticsError, Engine, GridOrbital, GridSums};
 use crate::grid::GridGeometry;
+use crate::memory::OutOfMemory;
 use crate::par::Parallelism;
 use std::sync::Arc;
 
 /// Sub-lattices need at least this many points per axis to say anything.
 const MIN_COARSE_POINTS: usize = 8;
 
-/// Sub-lattice `offset` of `o`, or `None` if the grid is too small to coarsen.
-fn sublattice(o: &GridOrbital, offset: [usize; 3]) -> Option<GridOrbital> {
+/// Sub-lattice `offset` of `o`, or `None` if the grid is too small to coarsen (an error where
+/// its memory cannot be had).
+fn sublattice(o: &GridOrbital, offset: [usize; 3]) -> Option<Result<GridOrbital, OutOfMemory>> {
     let g = &o.geometry;
     let shape = g.shape.map(|n| n / 2);
     if shape.iter().any(|&n| n < MIN_COARSE_POINTS) {
         return None;
     }
     let [_, n1, n2] = g.shape;
-    let mut values = Vec::with_capacity(shape.iter().product());
-    for i in 0..shape[0] {
-        for j in 0..shape[1] {
-            let row = ((2 * i + offset[0]) * n1 + 2 * j + offset[1]) * n2 + offset[2];
-            values.extend((0..shape[2]).map(|k| o.values[row + 2 * k]));
-        }
-    }
     let geometry = GridGeometry::new(g.point(offset), g.axes.map(|a| a.map(|x| 2.0 * x)), shape).ok()?;
-    Some(GridOrbital { geometry: Arc::new(geometry), values, ..o.clone() })
+    let rows = (0..shape[0]).flat_map(|i| (0..shape[1]).map(move |j| ((2 * i + offset[0]) * n1 + 2 * j + offset[1]) * n2 + offset[2]));
+    let values = rows.flat_map(|row| (0..shape[2]).map(move |k| o.values[row + 2 * k]));
+    let values = crate::memory::try_collect(geometry.len(), values, "a sub-lattice of the orbital");
+    // Field by field: `..o.clone()` would copy the whole grid's values only to drop them.
+    Some(values.map(|values| GridOrbital {
+        source: o.source.clone(),
+        label: o.label.clone(),
+        spin: o.spin,
+        occupation: o.occupation,
+        geometry: Arc::new(geometry),
+        nuclei: o.nuclei.clone(),
+        kind: o.kind,
+        kind_origin: o.kind_origin.clone(),
+        values,
+    }))
 }
 
 /// Largest deviation of each quantity on the sub-lattices from its value on the whole grid
@@ -70,7 +79,8 @@ pub(super) fn spreads(engine: &Engine, o: &GridOrbital, sums: &GridSums, par: Pa
     let offsets: Vec<[usize; 3]> = (0..8).map(|k| [k >> 2, (k >> 1) & 1, k & 1]).collect();
     // Sub-lattices run side by side, each on one thread, when the caller allows threads.
     let results = par.map(offsets.len(), |k| match sublattice(o, offsets[k]) {
-        Some(sub) => engine.grid_sums(&sub, Parallelism::Sequential, models_for_j(), false).map(|g| {
+        Some(Err(e)) => Err(e.into()),
+        Some(Ok(sub)) => engine.grid_sums(&sub, Parallelism::Sequential, models_for_j(), false).map(|g| {
             let coarse_outside = outside(&sub, &g, &g.models, Parallelism::Sequential);
             Some((g.hartree, coarse_outside))
         }),
@@ -103,7 +113,7 @@ mod tests {
         let mut seen = std::collections::HashSet::new();
         for k in 0..8 {
             let off = [k >> 2, (k >> 1) & 1, k & 1];
-            let s = sublattice(&o, off).unwrap();
+            let s = sublattice(&o, off).unwrap().unwrap();
             assert_eq!(s.geometry.shape, [8, 8, 9]);
             // Each value sits where its fine-grid point was.
             let [_, n1, n2] = g.shape;

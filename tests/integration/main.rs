@@ -15,6 +15,7 @@ mod functionals;
 mod html;
 mod inspect;
 mod localized;
+mod memory;
 mod real_world;
 mod reference;
 mod trust;

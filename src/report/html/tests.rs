@@ -80,6 +80,7 @@ fn workflow(models: &[&str]) -> Workflow {
         trust: TrustParams::default(),
         cusp_correction: true,
         tail_correction: false,
+        memory: None,
     }
 }
 
