@@ -1,0 +1,19 @@
+//! Inputs the fuzz targets (`fuzz/`) found mishandled, each reduced to its point, with the
+//! original input kept as a seed under `fuzz/seeds/TARGET/`.
+
+use crate::common::{parse, parse_with_buffer};
+use sixray_parsers::CubeErrorKind;
+
+/// A 1×1×2 cube followed by one value too many.
+const TRAILING: &str = "c1\nc2\n 1 0.0 0.0 0.0\n 1 0.1 0 0\n 1 0 0.1 0\n 2 0 0 0.1\n 1 1.0 0 0 0\n 1.0 2.0 220.0\n";
+
+#[test]
+fn trailing_value_is_quoted_whole_whatever_the_buffer() {
+    // fuzz target cube: a buffer refill inside the extra value cut the quoted excerpt.
+    let whole = parse(TRAILING.as_bytes()).expect_err("one value too many");
+    assert!(matches!(&whole.kind, CubeErrorKind::TrailingData { found } if found == "\"220.0\""), "{whole}");
+    for capacity in 1..=TRAILING.len() {
+        let e = parse_with_buffer(TRAILING.as_bytes(), capacity).expect_err("one value too many");
+        assert_eq!(e.to_string(), whole.to_string(), "buffer of {capacity} bytes");
+    }
+}
