@@ -26,7 +26,7 @@ use std::path::{Path, PathBuf};
 use crate::cube::error::excerpt;
 use crate::cube::number::{NumberError, parse_token};
 use crate::text::{
-    TextError, TextErrorKind, blank_line, read_text, refuse_gzip, split_lines, text_error,
+    TextError, TextErrorKind, blank_line, end_line, read_text, refuse_gzip, split_lines, text_error,
 };
 
 text_error! {
@@ -219,7 +219,7 @@ fn tree<'a>(lines: &[&'a [u8]], src: &Path) -> Result<Vec<Element<'a>>, WfxError
     if let Some(open) = stack.last() {
         return Err(WfxError::new(
             src,
-            Some(lines.len()),
+            Some(end_line(lines)),
             TextErrorKind::UnexpectedEnd { expected: format!("</{}> (opened on line {})", open.name, open.open) },
         ));
     }
