@@ -250,6 +250,7 @@ impl<'de> Deserialize<'de> for Occupation {
 #[serde(deny_unknown_fields)]
 struct CalculationSpec {
     name: CalculationName,
+    #[serde(deserialize_with = "patterns")]
     files: Vec<Pattern>,
     #[serde(default)]
     kind: KindSpec,
@@ -320,6 +321,15 @@ impl Named for CalculationSpec {
     fn name(&self) -> &str {
         &self.name.0
     }
+}
+
+/// A calculation's file patterns: at least one (YAML reads `files:` with no value as none).
+fn patterns<'de, D: Deserializer<'de>>(d: D) -> Result<Vec<Pattern>, D::Error> {
+    let list = Option::<Vec<Pattern>>::deserialize(d)?.unwrap_or_default();
+    if list.is_empty() {
+        return Err(D::Error::custom("files must name at least one file or pattern"));
+    }
+    Ok(list)
 }
 
 fn calculations<'de, D: Deserializer<'de>>(d: D) -> Result<Vec<CalculationSpec>, D::Error> {
@@ -625,6 +635,19 @@ mod tests {
         assert!(e.message.contains("line 1"), "{e}");
         // `load` still reports a file it cannot read.
         assert!(Workflow::load(&virtual_path).is_err());
+    }
+
+    #[test]
+    fn a_calculation_without_files_is_refused() {
+        // Found by the workflow fuzz target (fuzz/seeds/workflow/no-files.yaml): `files:` with no
+        // value, or an empty list, was accepted as a calculation of no orbitals.
+        for files in ["files:", "files: []", "files: ~"] {
+            let yaml = format!("calculations:\n  - name: a\n    {files}\nmodels: [lsda]\n");
+            let (_dir, w) = setup(&yaml);
+            let e = w.expect_err(&yaml).to_string();
+            assert!(e.contains("files must name at least one file or pattern"), "{yaml}\n→ {e}");
+            assert!(e.contains("line 2") || e.contains("line 3"), "{yaml}\n→ {e}");
+        }
     }
 
     #[test]
