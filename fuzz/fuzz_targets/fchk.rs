@@ -4,15 +4,12 @@
 use std::path::Path;
 
 use libfuzzer_sys::fuzz_target;
-use sixray_fuzz::{check_error, check_finite, check_lines};
+use sixray_fuzz::{accepted, check_error, check_finite, check_lines};
 use sixray_parsers::{FchkValue, parse_fchk};
 
 fuzz_target!(|data: &[u8]| {
     let src = Path::new("fuzz.fchk");
-    let f = match parse_fchk(data, src) {
-        Ok(f) => f,
-        Err(e) => return check_error(src, e.line, &e, data),
-    };
+    let Some(f) = accepted(parse_fchk(data, src), |e| e.line, src, data) else { return };
     // Sections start after the title and calculation lines, in file order.
     check_lines(f.sections.iter().map(|s| s.line), data, true, "sections");
     assert!(f.sections.first().is_none_or(|s| s.line >= 3));

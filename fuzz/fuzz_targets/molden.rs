@@ -4,14 +4,13 @@
 use std::path::Path;
 
 use libfuzzer_sys::fuzz_target;
-use sixray_fuzz::{check_error, check_finite, check_lines};
+use sixray_fuzz::{accepted, check_finite, check_lines};
 use sixray_parsers::{MoldenFile, ShellType, parse_molden};
 
 fuzz_target!(|data: &[u8]| {
     let src = Path::new("fuzz.molden");
-    match parse_molden(data, src) {
-        Ok(m) => consistent(&m, data),
-        Err(e) => check_error(src, e.line, &e, data),
+    if let Some(m) = accepted(parse_molden(data, src), |e| e.line, src, data) {
+        consistent(&m, data);
     }
 });
 

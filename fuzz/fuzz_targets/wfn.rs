@@ -4,15 +4,12 @@
 use std::path::Path;
 
 use libfuzzer_sys::fuzz_target;
-use sixray_fuzz::{check_error, check_finite, check_lines};
+use sixray_fuzz::{accepted, check_finite, check_lines};
 use sixray_parsers::parse_wfn;
 
 fuzz_target!(|data: &[u8]| {
     let src = Path::new("fuzz.wfn");
-    let w = match parse_wfn(data, src) {
-        Ok(w) => w,
-        Err(e) => return check_error(src, e.line, &e, data),
-    };
+    let Some(w) = accepted(parse_wfn(data, src), |e| e.line, src, data) else { return };
     // One centre, type and exponent per primitive, one coefficient per primitive in every
     // orbital, finite numbers, nucleus and orbital lines in file order after the header.
     let n = w.exponents.len();

@@ -4,15 +4,12 @@
 use std::path::Path;
 
 use libfuzzer_sys::fuzz_target;
-use sixray_fuzz::{check_error, check_finite, check_lines};
+use sixray_fuzz::{accepted, check_finite, check_lines};
 use sixray_parsers::parse_wfx;
 
 fuzz_target!(|data: &[u8]| {
     let src = Path::new("fuzz.wfx");
-    let w = match parse_wfx(data, src) {
-        Ok(w) => w,
-        Err(e) => return check_error(src, e.line, &e, data),
-    };
+    let Some(w) = accepted(parse_wfx(data, src), |e| e.line, src, data) else { return };
     // One entry per nucleus in every nuclear list (names optional), one per primitive in
     // every primitive list and orbital, finite numbers, orbitals in file order.
     let nuclei = w.atomic_numbers.len();

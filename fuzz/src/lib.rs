@@ -33,6 +33,17 @@ pub fn check_error(source: &Path, line: Option<usize>, error: &dyn Display, text
     assert!(message.len() <= MAX_MESSAGE_BYTES, "a {}-byte message: {message:.200}", message.len());
 }
 
+/// What a reader returned if it accepted the input; otherwise `None`, its error checked with
+/// [`check_error`] (`line` reads the error's line).
+pub fn accepted<T, E: Display>(
+    answer: Result<T, E>,
+    line: impl Fn(&E) -> Option<usize>,
+    source: &Path,
+    text: &[u8],
+) -> Option<T> {
+    answer.map_err(|e| check_error(source, line(&e), &e, text)).ok()
+}
+
 /// Checks 1-based line numbers that the reader reports for parts of an accepted input: each
 /// a line of `text`, in file order (`strict`: each after the one before).
 pub fn check_lines(lines: impl IntoIterator<Item = usize>, text: &[u8], strict: bool, what: &str) {
