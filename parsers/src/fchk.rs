@@ -18,8 +18,8 @@ use std::path::{Path, PathBuf};
 use crate::cube::error::excerpt;
 use crate::fields::Fields;
 use crate::text::{
-    TextError, TextErrorKind, blank_line, most_words, read_text, refuse_gzip, split_lines,
-    text_error,
+    TextError, TextErrorKind, blank_line, end_line, most_words, read_text, refuse_gzip,
+    split_lines, text_error,
 };
 
 text_error! {
@@ -187,7 +187,7 @@ pub fn parse_fchk(text: &[u8], source: &Path) -> Result<FchkFile, FchkError> {
     let end = |expected: &str| {
         FchkError::new(
             source,
-            Some(lines.len()),
+            Some(end_line(&lines)),
             TextErrorKind::UnexpectedEnd { expected: expected.to_string() },
         )
     };
@@ -303,7 +303,7 @@ fn read_array<T>(
         let Some(&line) = lines.get(*at) else {
             return Err(FchkError::new(
                 source,
-                Some(lines.len()),
+                Some(end_line(lines)),
                 TextErrorKind::UnexpectedEnd {
                     expected: format!(
                         "{} more values of array \"{name}\" (line {header_line} declares {count})",

@@ -158,6 +158,12 @@ pub(crate) fn split_lines(text: &[u8]) -> Vec<&[u8]> {
     lines
 }
 
+/// The line an unexpected end of `lines` is reported on: the last one, or line 1 of an empty
+/// text (where the first line was expected).
+pub(crate) fn end_line(lines: &[&[u8]]) -> usize {
+    lines.len().max(1)
+}
+
 /// Field separators: space, tab, CR, VT, FF.
 pub(crate) fn is_blank(b: u8) -> bool {
     b == b' ' || b == b'\t' || b == b'\r' || b == 0x0b || b == 0x0c

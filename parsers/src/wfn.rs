@@ -26,7 +26,7 @@ use crate::cube::error::excerpt;
 use crate::cube::number::{NumberError, parse_token};
 use crate::fields::integer_text;
 use crate::text::{
-    TextError, TextErrorKind, blank_line, most_words, number_words, read_text, refuse_gzip,
+    TextError, TextErrorKind, blank_line, end_line, most_words, number_words, read_text, refuse_gzip,
     split_lines, text_error,
 };
 
@@ -134,7 +134,7 @@ impl<'a> Reader<'a> {
             }
             None => Err(WfnError::new(
                 self.src,
-                Some(self.lines.len()),
+                Some(end_line(&self.lines)),
                 TextErrorKind::UnexpectedEnd { expected: expected.to_string() },
             )),
         }

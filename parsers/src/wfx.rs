@@ -23,10 +23,10 @@
 
 use std::path::{Path, PathBuf};
 
-use crate::cube::error::excerpt;
+use crate::cube::error::{FOUND_EXCERPT_CHARS, excerpt};
 use crate::cube::number::{NumberError, parse_token};
 use crate::text::{
-    TextError, TextErrorKind, blank_line, read_text, refuse_gzip, split_lines, text_error,
+    TextError, TextErrorKind, blank_line, end_line, read_text, refuse_gzip, split_lines, text_error,
 };
 
 text_error! {
@@ -136,6 +136,24 @@ fn tag(line: &[u8]) -> Option<(bool, String)> {
     (!name.is_empty()).then(|| (closing, name.join(" ")))
 }
 
+/// A section name from the input as messages show it: control characters escaped, cut to
+/// [`FOUND_EXCERPT_CHARS`] characters with an ellipsis.
+fn shown(name: &str) -> String {
+    let mut chars = name.chars();
+    let mut out = String::new();
+    for c in chars.by_ref().take(FOUND_EXCERPT_CHARS) {
+        if c.is_control() {
+            out.extend(c.escape_debug());
+        } else {
+            out.push(c);
+        }
+    }
+    if chars.next().is_some() {
+        out.push('…');
+    }
+    out
+}
+
 /// Parses uncompressed wfx text; `source` names it in errors.
 pub fn parse_wfx(text: &[u8], source: &Path) -> Result<WfxFile, WfxError> {
     refuse_gzip::<WfxError>(text, source)?;
@@ -160,7 +178,7 @@ fn tree<'a>(lines: &[&'a [u8]], src: &Path) -> Result<Vec<Element<'a>>, WfxError
                         return Err(WfxError::syntax_at(
                             src,
                             no,
-                            format!("</{}> (opened on line {}) after its data", parent.name, parent.open),
+                            format!("</{}> (opened on line {}) after its data", shown(&parent.name), parent.open),
                             excerpt(line.trim_ascii()),
                         ));
                     }
@@ -180,7 +198,7 @@ fn tree<'a>(lines: &[&'a [u8]], src: &Path) -> Result<Vec<Element<'a>>, WfxError
                     return Err(WfxError::syntax_at(
                         src,
                         no,
-                        format!("</{}> (opened on line {})", done.name, done.open),
+                        format!("</{}> (opened on line {})", shown(&done.name), done.open),
                         excerpt(line.trim_ascii()),
                     ));
                 }
@@ -203,7 +221,7 @@ fn tree<'a>(lines: &[&'a [u8]], src: &Path) -> Result<Vec<Element<'a>>, WfxError
                     return Err(WfxError::syntax_at(
                         src,
                         no,
-                        format!("a tag inside <{}> (opened on line {}), which holds sections", open.name, open.open),
+                        format!("a tag inside <{}> (opened on line {}), which holds sections", shown(&open.name), open.open),
                         excerpt(line.trim_ascii()),
                     ));
                 }
@@ -221,8 +239,8 @@ fn tree<'a>(lines: &[&'a [u8]], src: &Path) -> Result<Vec<Element<'a>>, WfxError
     if let Some(open) = stack.last() {
         return Err(WfxError::new(
             src,
-            Some(lines.len()),
-            TextErrorKind::UnexpectedEnd { expected: format!("</{}> (opened on line {})", open.name, open.open) },
+            Some(end_line(lines)),
+            TextErrorKind::UnexpectedEnd { expected: format!("</{}> (opened on line {})", shown(&open.name), open.open) },
         ));
     }
     Ok(top)
@@ -408,7 +426,7 @@ impl<'a> Sections<'a> {
                     self.src,
                     mo.open,
                     format!("<MO Number> inside <{COEFFICIENTS}>"),
-                    format!("<{}>", mo.name),
+                    format!("<{}>", shown(&mo.name)),
                 ));
             }
             // The tree put the orbital number and the coefficients after it in one list:

@@ -256,6 +256,7 @@ impl<'de> Deserialize<'de> for Occupation {
 #[serde(deny_unknown_fields)]
 struct CalculationSpec {
     name: CalculationName,
+    #[serde(deserialize_with = "patterns")]
     files: Vec<Pattern>,
     #[serde(default)]
     kind: KindSpec,
@@ -326,6 +327,15 @@ impl Named for CalculationSpec {
     fn name(&self) -> &str {
         &self.name.0
     }
+}
+
+/// A calculation's file patterns: at least one (YAML reads `files:` with no value as none).
+fn patterns<'de, D: Deserializer<'de>>(d: D) -> Result<Vec<Pattern>, D::Error> {
+    let list = Option::<Vec<Pattern>>::deserialize(d)?.unwrap_or_default();
+    if list.is_empty() {
+        return Err(D::Error::custom("files must name at least one file or pattern"));
+    }
+    Ok(list)
 }
 
 fn calculations<'de, D: Deserializer<'de>>(d: D) -> Result<Vec<CalculationSpec>, D::Error> {
@@ -500,15 +510,23 @@ struct CustomModelsOnly {
 impl Workflow {
     /// Reads and checks a workflow file.
     pub fn load(path: &Path) -> Result<Workflow, WorkflowError> {
+        let text = std::fs::read_to_string(path)
+            .map_err(|e| WorkflowError { path: path.to_path_buf(), message: e.to_string() })?;
+        Self::from_text(&text, path)
+    }
+
+    /// Checks workflow text as if it were the content of the file `path`, which is not read
+    /// (it names the workflow in errors, and relative patterns and the report directory
+    /// resolve against its directory, whose files the patterns must match).
+    pub fn from_text(text: &str, path: &Path) -> Result<Workflow, WorkflowError> {
         let fail = |message: String| WorkflowError { path: path.to_path_buf(), message };
-        let text = std::fs::read_to_string(path).map_err(|e| fail(e.to_string()))?;
         let base = path.parent().map(Path::to_path_buf).unwrap_or_default();
-        let custom: CustomModelsOnly = serde_yaml::from_str(&text).map_err(|e| fail(e.to_string()))?;
+        let custom: CustomModelsOnly = serde_yaml::from_str(text).map_err(|e| fail(e.to_string()))?;
         let library = ModelLibrary::builtin()
             .with_custom(custom.custom_models.into_iter().map(|c| c.0).collect())
             .map_err(|e| fail(format!("custom_models: {e}")))?;
         CONTEXT.with(|c| *c.borrow_mut() = Some(Context { base: base.clone(), library }));
-        let parsed: Result<WorkflowFile, _> = serde_yaml::from_str(&text);
+        let parsed: Result<WorkflowFile, _> = serde_yaml::from_str(text);
         CONTEXT.with(|c| *c.borrow_mut() = None);
         let file = parsed.map_err(|e| fail(e.to_string()))?;
 
@@ -658,6 +676,39 @@ mod tests {
         assert_eq!(w.report.dir, PathBuf::from("/tmp/elsewhere"));
         assert_eq!((w.report.formats.clone(), w.report.units, w.report.worst), (vec![ReportFormat::Json], EnergyUnit::ElectronVolt, 3));
         assert_eq!((w.threads, w.cache, w.tail_correction, w.memory), (Some(2), false, true, Some(3 << 29)));
+    }
+
+    #[test]
+    fn text_checks_like_the_file_without_reading_it() {
+        let yaml = "calculations:\n  - name: a\n    files: [a/*.cube]\nmodels: [pbe, lsda]\nreport:\n  dir: out\n";
+        let (dir, loaded) = setup(yaml);
+        // A name beside the real file that does not exist: only its directory is used.
+        let virtual_path = dir.path().join("not-written.yaml");
+        let parsed = Workflow::from_text(yaml, &virtual_path).unwrap();
+        let mut loaded = loaded.unwrap();
+        assert_eq!(parsed.path, virtual_path);
+        loaded.path = virtual_path.clone();
+        assert_eq!(format!("{parsed:?}"), format!("{loaded:?}"));
+        assert_eq!(parsed.report.dir, dir.path().join("out"));
+        // Errors name the virtual file and carry the YAML line.
+        let e = Workflow::from_text("calculations: []\nmodels: [lsda]\n", &virtual_path).unwrap_err();
+        assert_eq!(e.path, virtual_path);
+        assert!(e.message.contains("line 1"), "{e}");
+        // `load` still reports a file it cannot read.
+        assert!(Workflow::load(&virtual_path).is_err());
+    }
+
+    #[test]
+    fn a_calculation_without_files_is_refused() {
+        // Found by the workflow fuzz target (fuzz/seeds/workflow/no-files.yaml): `files:` with no
+        // value, or an empty list, was accepted as a calculation of no orbitals.
+        for files in ["files:", "files: []", "files: ~"] {
+            let yaml = format!("calculations:\n  - name: a\n    {files}\nmodels: [lsda]\n");
+            let (_dir, w) = setup(&yaml);
+            let e = w.expect_err(&yaml).to_string();
+            assert!(e.contains("files must name at least one file or pattern"), "{yaml}\n→ {e}");
+            assert!(e.contains("line 2") || e.contains("line 3"), "{yaml}\n→ {e}");
+        }
     }
 
     #[test]

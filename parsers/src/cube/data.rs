@@ -53,6 +53,7 @@ pub(crate) fn read_values<R: BufRead>(
     mut line: usize,
 ) -> Result<(), CubeError> {
     let err = |line: usize, kind: CubeErrorKind| CubeError::new(src, Some(line), kind);
+    let trailing = |line: usize, tok: &[u8]| err(line, CubeErrorKind::TrailingData { found: excerpt(tok) });
     let value_error = |line: usize, tok: &[u8], e: NumberError, index: u64| match e {
         NumberError::NotFinite => err(
             line,
@@ -99,6 +100,9 @@ pub(crate) fn read_values<R: BufRead>(
             let piece = buf.get(..end).unwrap_or(buf);
             if carry.len() + piece.len() > MAX_CARRIED_TOKEN {
                 carry.extend_from_slice(piece.get(..64).unwrap_or(piece));
+                if sink.full() {
+                    return Err(trailing(carry_line, &carry));
+                }
                 let expected = format!("value {} of {total} (a number)", sink.count + 1);
                 return Err(err(
                     carry_line,
@@ -112,6 +116,9 @@ pub(crate) fn read_values<R: BufRead>(
             if end == len {
                 reader.consume(len);
                 continue;
+            }
+            if sink.full() {
+                return Err(trailing(carry_line, &carry));
             }
             let v =
                 parse_token(&carry).map_err(|e| value_error(carry_line, &carry, e, sink.count))?;
@@ -141,8 +148,13 @@ pub(crate) fn read_values<R: BufRead>(
             }
             if sink.full() {
                 let end = rest.iter().position(|&b| is_space(b)).unwrap_or(rest.len());
-                let found = excerpt(rest.get(..end).unwrap_or(rest));
-                return Err(err(line, CubeErrorKind::TrailingData { found }));
+                if end == rest.len() {
+                    // Cut by the end of the buffer: quote it whole, once the next read ends it.
+                    carry.extend_from_slice(rest);
+                    carry_line = line;
+                    break;
+                }
+                return Err(trailing(line, rest.get(..end).unwrap_or(rest)));
             }
             // Fast path: a finite number followed by whitespace inside this buffer.
             if let Ok((v, n)) = fast_float2::parse_partial::<f64, _>(rest) {
@@ -173,12 +185,7 @@ pub(crate) fn read_values<R: BufRead>(
     if !carry.is_empty() {
         // The input ended inside a token: it is complete now.
         if sink.full() {
-            return Err(err(
-                carry_line,
-                CubeErrorKind::TrailingData {
-                    found: excerpt(&carry),
-                },
-            ));
+            return Err(trailing(carry_line, &carry));
         }
         let v = parse_token(&carry).map_err(|e| value_error(carry_line, &carry, e, sink.count))?;
         sink.push(v);

@@ -3,6 +3,7 @@
 mod common;
 mod errors;
 mod format;
+mod fuzzed;
 mod molden;
 mod read;
 mod robustness;
