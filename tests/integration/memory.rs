@@ -31,15 +31,16 @@ fn sixray_limited(kib: u64, args: &[&str], dir: &Path) -> Output {
 }
 
 /// A directory with a 400³ orbital file (`huge.cube.gz`, 0.2 bohr steps: a 80-bohr box) and two
-/// small ones (`small_1`, `small_2`, 40³), copied from files written once per test run.
+/// small ones (`small_1`, `small_2`, 40³ and 42³), copied from files written once per test run.
 fn files() -> tempfile::TempDir {
     static WRITTEN: OnceLock<PathBuf> = OnceLock::new();
     let source = WRITTEN.get_or_init(|| {
         let dir = Path::new(env!("CARGO_TARGET_TMPDIR")).join("memory-tests");
         std::fs::create_dir_all(&dir).expect("test directory");
         synthetic::write_orbital_cube(&dir.join("huge.cube.gz"), [400; 3], 0.2).expect("write huge cube");
-        for k in 1..=2 {
-            synthetic::write_orbital_cube(&dir.join(format!("small_{k}.cube.gz")), [40; 3], 0.2).expect("write cube");
+        // Two grids of their own: files of the same content would be analysed once.
+        for (k, n) in [(1, 40), (2, 42)] {
+            synthetic::write_orbital_cube(&dir.join(format!("small_{k}.cube.gz")), [n; 3], 0.2).expect("write cube");
         }
         dir
     });
