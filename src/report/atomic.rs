@@ -56,10 +56,15 @@ pub struct Staged {
 
 impl Staged {
     /// Writes `bytes` to a new temporary file in `target`'s directory and flushes it.
+    /// A symbolic link is followed: the file it names is replaced, and the link stays.
     pub fn new(target: &Path, bytes: &[u8]) -> std::io::Result<Staged> {
-        let (temp, mut file) = create_temporary(directory_of(target))?;
+        let target = match std::fs::symlink_metadata(target) {
+            Ok(m) if m.file_type().is_symlink() => std::fs::canonicalize(target)?,
+            _ => target.to_path_buf(),
+        };
+        let (temp, mut file) = create_temporary(directory_of(&target))?;
         // Made first, so that a failed write drops it and the temporary file goes.
-        let staged = Staged { temp, target: target.to_path_buf(), committed: false };
+        let staged = Staged { temp, target, committed: false };
         file.write_all(bytes)?;
         file.sync_all()?;
         Ok(staged)
@@ -111,8 +116,20 @@ fn create_temporary(dir: &Path) -> std::io::Result<(PathBuf, File)> {
 
 /// Writes `bytes` to `path` atomically (see the module doc). Errors are the operating system's,
 /// without the temporary file's name: callers name the target.
+///
+/// A `path` that exists and is not a regular file (`/dev/null`, a terminal, a named pipe) is
+/// written to directly: renaming over it would replace the device or pipe with a plain file,
+/// and a reader of a pipe sees the bytes in order anyway.
 pub fn write_atomic(path: &Path, bytes: &[u8]) -> std::io::Result<()> {
+    if is_special(path) {
+        return OpenOptions::new().write(true).open(path)?.write_all(bytes);
+    }
     Staged::new(path, bytes)?.commit()
+}
+
+/// Whether `path` (links followed) exists and is neither a regular file nor a directory.
+fn is_special(path: &Path) -> bool {
+    std::fs::metadata(path).is_ok_and(|m| !m.is_file() && !m.is_dir())
 }
 
 /// A directory that reports or cache entries cannot be written to, and why.
@@ -155,6 +172,10 @@ pub fn check_output_file(file: &Path) -> Result<(), DirError> {
     let fail = |reason: String| DirError { path: file.to_path_buf(), reason };
     if file.is_dir() {
         return Err(fail("it is a directory; give a file name".into()));
+    }
+    if is_special(file) {
+        // Written to directly (see [`write_atomic`]): it only has to open for writing.
+        return OpenOptions::new().write(true).open(file).map(drop).map_err(|e| fail(e.to_string()));
     }
     let dir = directory_of(file);
     if !dir.is_dir() {
@@ -219,6 +240,41 @@ mod tests {
         drop(Staged::new(&p, b"third").unwrap());
         assert_eq!(std::fs::read_dir(dir.path()).unwrap().count(), 1);
         assert_eq!(std::fs::read(&p).unwrap(), b"second");
+    }
+
+    /// Atomic replacement would turn a device or a named pipe into a plain file (as root, even
+    /// `/dev/null`): they are written to directly, and a link keeps pointing at its file.
+    #[cfg(unix)]
+    #[test]
+    fn pipes_and_links_stay_what_they_are() {
+        use std::io::Read;
+        let dir = tempfile::tempdir().unwrap();
+        let fifo = dir.path().join("pipe");
+        let made = std::process::Command::new("mkfifo").arg(&fifo).status();
+        if made.is_ok_and(|s| s.success()) {
+            let reader = {
+                let fifo = fifo.clone();
+                std::thread::spawn(move || {
+                    let mut text = String::new();
+                    File::open(&fifo).unwrap().read_to_string(&mut text).unwrap();
+                    text
+                })
+            };
+            check_output_file(&fifo).unwrap_or_else(|e| panic!("{e}"));
+            write_atomic(&fifo, b"through the pipe").unwrap();
+            assert_eq!(reader.join().unwrap(), "through the pipe");
+            use std::os::unix::fs::FileTypeExt;
+            assert!(std::fs::metadata(&fifo).unwrap().file_type().is_fifo());
+        } else {
+            eprintln!("skipping the named-pipe half: mkfifo not available");
+        }
+        let file = dir.path().join("file.md");
+        let link = dir.path().join("link.md");
+        std::fs::write(&file, b"old").unwrap();
+        std::os::unix::fs::symlink(&file, &link).unwrap();
+        write_atomic(&link, b"new").unwrap();
+        assert!(std::fs::symlink_metadata(&link).unwrap().file_type().is_symlink());
+        assert_eq!(std::fs::read(&file).unwrap(), b"new");
     }
 
     #[test]

@@ -73,9 +73,10 @@ fn minus(s: &str) -> String {
     s.replace('-', "−")
 }
 
-/// A numeric table cell that sorts by `raw`.
+/// A numeric table cell that sorts by `raw` (one that is not finite sorts by its text, after
+/// the numbers).
 fn td_num(shown: &str, raw: f64) -> String {
-    format!(r#"<td class="num" data-v="{raw}">{shown}</td>"#)
+    if raw.is_finite() { format!(r#"<td class="num" data-v="{raw}">{shown}</td>"#) } else { format!(r#"<td class="num">{shown}</td>"#) }
 }
 
 /// A value with its error bar below it (sorting by the value; no bar to a value that is not
